@@ -1,0 +1,27 @@
+//! # nidus
+//!
+//! Measures how nested a bipartite ecological network is (plants and
+//! pollinators, hosts and parasites, sites and species) and whether that
+//! nestedness is more than chance.
+//!
+//! * [`Network`]: a validated weighted network with labels, dense or sparse.
+//! * [`metrics`]: NODF, WNODF and the other indices, one file each.
+//! * [`io`]: reading matrix and edge-list files.
+//!
+//! ```
+//! use ndarray::array;
+//! use nidus::{metrics::{nodf, Order}, Network};
+//! let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
+//! assert_eq!(nodf(&net, Order::Sorted).unwrap().total, 100.0);
+//! ```
+#![warn(missing_docs)]
+
+pub mod bits;
+pub mod error;
+pub mod metrics;
+pub mod network;
+
+pub use bits::BitMatrix;
+pub use error::{Error, Result};
+pub use metrics::Order;
+pub use network::{Csr, Network, Weight};

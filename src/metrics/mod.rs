@@ -1,0 +1,144 @@
+//! Nestedness indices, one file each. Every index is a free function over a
+//! network or one of its views; its doc gives formula, cost and reference.
+
+use std::fmt;
+use std::str::FromStr;
+
+use crate::error::Error;
+
+pub mod nodf;
+pub mod wnodf;
+
+pub use nodf::{nodf, nodf_bits, Nodf};
+pub use wnodf::wnodf;
+
+/// The order of rows and columns that an order-dependent index uses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+pub enum Order {
+    /// Rows and columns by decreasing degree, ties in input order.
+    #[default]
+    Sorted,
+    /// Rows and columns as given in the input (an external gradient).
+    Given,
+}
+
+impl Order {
+    /// The name used on the command line and in output.
+    pub fn name(self) -> &'static str {
+        match self {
+            Order::Sorted => "sorted",
+            Order::Given => "given",
+        }
+    }
+}
+
+impl fmt::Display for Order {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Order {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self, Error> {
+        match s {
+            "sorted" => Ok(Order::Sorted),
+            "given" => Ok(Order::Given),
+            _ => Err(Error::InvalidArgument(format!(
+                "unknown order '{s}': expected 'sorted' or 'given'"
+            ))),
+        }
+    }
+}
+
+/// Positions `0..degrees.len()` by decreasing degree, ties in input order
+/// (a stable sort), the "sorted" convention of METHODS.md.
+pub fn degree_order(degrees: &[usize]) -> Vec<usize> {
+    let mut idx: Vec<usize> = (0..degrees.len()).collect();
+    idx.sort_by(|&a, &b| degrees[b].cmp(&degrees[a]));
+    idx
+}
+
+/// Number of unordered pairs among `k` items.
+pub(crate) fn pairs(k: usize) -> usize {
+    k * k.saturating_sub(1) / 2
+}
+
+/// An index split into its row part, column part and total, as NODF and
+/// WNODF are. A part whose side has fewer than two members is `None`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Parts {
+    /// Pairs of both sides together.
+    pub total: f64,
+    /// Pairs of rows.
+    pub rows: Option<f64>,
+    /// Pairs of columns.
+    pub cols: Option<f64>,
+}
+
+impl Parts {
+    /// Combines per-side sums of pair values into the parts; errors when
+    /// neither side has a pair.
+    pub(crate) fn from_sums(
+        index: &'static str,
+        m: usize,
+        n: usize,
+        row_sum: f64,
+        col_sum: f64,
+    ) -> Result<Parts, Error> {
+        let (pr, pc) = (pairs(m), pairs(n));
+        if pr + pc == 0 {
+            return Err(Error::Undefined {
+                index,
+                reason: "a 1 x 1 network has no pairs of rows or columns".into(),
+            });
+        }
+        Ok(Parts {
+            total: (row_sum + col_sum) / (pr + pc) as f64,
+            rows: (pr > 0).then(|| row_sum / pr as f64),
+            cols: (pc > 0).then(|| col_sum / pc as f64),
+        })
+    }
+}
+
+/// For the side whose degrees are given, calls `visit(lower, uppers)` for
+/// every member with at least one upper partner, where the uppers are the
+/// members that precede it in `order` with a strictly larger degree. Lower
+/// members of degree 0 are skipped (their pairs count 0). Returns the visit
+/// results in lower-member order of `0..len`.
+///
+/// With [`Order::Sorted`] the uppers of `l` are all members with larger
+/// degree; with [`Order::Given`] the members before `l` in input order with
+/// larger degree.
+pub(crate) fn upper_sets(degrees: &[usize], order: Order) -> Vec<(usize, Vec<usize>)> {
+    let m = degrees.len();
+    let mut out = Vec::new();
+    match order {
+        Order::Sorted => {
+            let ord = degree_order(degrees);
+            let mut start_of_tie = 0;
+            for p in 0..m {
+                if p > 0 && degrees[ord[p]] != degrees[ord[p - 1]] {
+                    start_of_tie = p;
+                }
+                let l = ord[p];
+                if degrees[l] > 0 && start_of_tie > 0 {
+                    out.push((l, ord[..start_of_tie].to_vec()));
+                }
+            }
+            out.sort_by_key(|(l, _)| *l);
+        }
+        Order::Given => {
+            for l in 0..m {
+                if degrees[l] == 0 {
+                    continue;
+                }
+                let ups: Vec<usize> = (0..l).filter(|&u| degrees[u] > degrees[l]).collect();
+                if !ups.is_empty() {
+                    out.push((l, ups));
+                }
+            }
+        }
+    }
+    out
+}
