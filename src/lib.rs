@@ -18,6 +18,7 @@
 
 pub mod bits;
 pub mod error;
+pub mod io;
 pub mod metrics;
 pub mod network;
 
