@@ -211,26 +211,20 @@ pub fn parse_network(text: &[u8], source: &Path, opts: &ReadOptions) -> Result<N
     }
 }
 
-/// The delimiter of the first non-blank line: the most frequent of comma,
-/// tab and semicolon outside quotes; comma when none occurs.
+/// The delimiter of the first non-blank record: the most frequent of comma,
+/// tab and semicolon outside quotes (a line break inside quotes does not end
+/// the record); comma when none occurs, ties to comma, then tab.
 fn detect_delimiter(text: &[u8]) -> u8 {
     let mut start = 0;
-    let line = loop {
-        let end = text[start..]
-            .iter()
-            .position(|&b| b == b'\n')
-            .map_or(text.len(), |p| start + p);
-        let line = &text[start..end];
-        if !line.iter().all(u8::is_ascii_whitespace) || end == text.len() {
-            break line;
-        }
-        start = end + 1;
-    };
+    while let Some(len) = blank_line_len(&text[start..]) {
+        start += len;
+    }
     let mut counts = [0usize; 3];
     let mut quoted = false;
-    for &b in line {
+    for &b in &text[start..] {
         match b {
             b'"' => quoted = !quoted,
+            b'\n' if !quoted => break,
             b',' if !quoted => counts[0] += 1,
             b'\t' if !quoted => counts[1] += 1,
             b';' if !quoted => counts[2] += 1,
@@ -245,6 +239,13 @@ fn detect_delimiter(text: &[u8]) -> u8 {
         }
     }
     candidates[best]
+}
+
+/// When `text` starts with a line holding only whitespace and ending with a
+/// line break, the length of that line with its break.
+fn blank_line_len(text: &[u8]) -> Option<usize> {
+    let end = text.iter().position(|&b| !b.is_ascii_whitespace() || b == b'\n')?;
+    (text[end] == b'\n').then_some(end + 1)
 }
 
 /// The error for bytes that are not UTF-8 at `offset`: names the physical
@@ -315,42 +316,43 @@ impl<'a> Fields<'a> {
     /// Fills `out` with the next non-blank record and returns its first
     /// physical line, or `None` at the end of the text.
     fn next_record(&mut self, out: &mut Vec<Cow<'a, str>>) -> Result<Option<usize>> {
+        let bytes = self.text.as_bytes();
+        // Skip lines holding only whitespace (a last line without a break too).
         loop {
-            if self.pos >= self.text.len() {
+            let rest = &bytes[self.pos..];
+            if rest.iter().all(u8::is_ascii_whitespace) {
+                self.pos = bytes.len();
                 return Ok(None);
             }
-            out.clear();
-            let line = self.line;
-            let mut blank = true;
-            loop {
-                let (field, quoted) = self.field(out.len() + 1)?;
-                blank &= !quoted && field.is_empty();
-                out.push(field);
-                let bytes = self.text.as_bytes();
-                match bytes.get(self.pos) {
-                    Some(&b) if b == self.delim => {
-                        blank = false;
-                        self.pos += 1;
-                    }
-                    Some(b'\n') => {
-                        self.pos += 1;
-                        self.line += 1;
-                        break;
-                    }
-                    // The end of the text (a field ends nowhere else).
-                    _ => break,
+            match blank_line_len(rest) {
+                Some(len) => {
+                    self.pos += len;
+                    self.line += 1;
                 }
-            }
-            if !blank {
-                return Ok(Some(line));
+                None => break,
             }
         }
+        out.clear();
+        let line = self.line;
+        loop {
+            out.push(self.field(out.len() + 1)?);
+            match bytes.get(self.pos) {
+                Some(&b) if b == self.delim => self.pos += 1,
+                Some(b'\n') => {
+                    self.pos += 1;
+                    self.line += 1;
+                    break;
+                }
+                // The end of the text (a field ends nowhere else).
+                _ => break,
+            }
+        }
+        Ok(Some(line))
     }
 
     /// Reads one field starting at `self.pos`, leaving `self.pos` on the
-    /// delimiter, line end or end of text after it. Returns the field and
-    /// whether it was quoted.
-    fn field(&mut self, index: usize) -> Result<(Cow<'a, str>, bool)> {
+    /// delimiter, line end or end of text after it.
+    fn field(&mut self, index: usize) -> Result<Cow<'a, str>> {
         let text = self.text;
         let bytes = text.as_bytes();
         let mut p = self.pos;
@@ -370,7 +372,7 @@ impl<'a> Fields<'a> {
                 e -= 1;
             }
             self.pos = end;
-            return Ok((Cow::Borrowed(&text[start..e]), false));
+            return Ok(Cow::Borrowed(&text[start..e]));
         }
         // Quoted: up to the closing quote; `""` stands for one quote.
         let start_line = self.line;
@@ -423,7 +425,7 @@ impl<'a> Fields<'a> {
             }
         }
         self.pos = p;
-        Ok((value, true))
+        Ok(value)
     }
 }
 
