@@ -244,7 +244,9 @@ fn detect_delimiter(text: &[u8]) -> u8 {
 /// When `text` starts with a line holding only whitespace and ending with a
 /// line break, the length of that line with its break.
 fn blank_line_len(text: &[u8]) -> Option<usize> {
-    let end = text.iter().position(|&b| !b.is_ascii_whitespace() || b == b'\n')?;
+    let end = text
+        .iter()
+        .position(|&b| !b.is_ascii_whitespace() || b == b'\n')?;
     (text[end] == b'\n').then_some(end + 1)
 }
 
@@ -253,7 +255,10 @@ fn blank_line_len(text: &[u8]) -> Option<usize> {
 fn utf8_error(text: &[u8], offset: usize, delim: u8, source: &Path) -> Error {
     let before = &text[..offset];
     let line = 1 + before.iter().filter(|&&b| b == b'\n').count();
-    let line_start = before.iter().rposition(|&b| b == b'\n').map_or(0, |p| p + 1);
+    let line_start = before
+        .iter()
+        .rposition(|&b| b == b'\n')
+        .map_or(0, |p| p + 1);
     let mut field = 1;
     let mut quoted = false;
     for &b in &text[line_start..offset] {
@@ -392,7 +397,9 @@ impl<'a> Fields<'a> {
             };
             self.line += bytes[p..q].iter().filter(|&&b| b == b'\n').count();
             if bytes.get(q + 1) == Some(&b'"') {
-                owned.get_or_insert_with(String::new).push_str(&text[seg..=q]);
+                owned
+                    .get_or_insert_with(String::new)
+                    .push_str(&text[seg..=q]);
                 p = q + 2;
                 seg = p;
             } else {
@@ -586,38 +593,185 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
     Network::from_dense(weights, row_labels, col_labels)
 }
 
-/// Labels in order of first appearance, with their indices.
-struct LabelIndex<'a> {
-    index: HashMap<Cow<'a, str>, u32>,
-    labels: Vec<Cow<'a, str>>,
+/// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
+/// (24 bits of its hash and its length, capped at 255) and its index + 1
+/// (0: an empty slot).
+#[derive(Clone, Copy, Default)]
+struct Slot {
+    head: u64,
+    tag: u32,
+    id1: u32,
 }
 
-impl<'a> LabelIndex<'a> {
+/// Labels in order of first appearance, with their indices: an
+/// open-addressing table of 16-byte slots (linear probing, load at most one
+/// half) over one string arena holding the labels. A label of up to eight
+/// bytes is found by reading one slot and nothing else; a longer one also
+/// reads the arena. A general map whose keys point into a large file reads
+/// three places far apart per lookup, which dominated reading time.
+struct LabelIndex {
+    slots: Vec<Slot>,
+    arena: String,
+    /// End of label `k` in `arena`; it starts where label `k - 1` ends.
+    ends: Vec<usize>,
+}
+
+/// The first (up to) eight bytes of `b`, little-endian, zero padded.
+#[inline]
+fn head_word(b: &[u8]) -> u64 {
+    let mut w = [0u8; 8];
+    let k = b.len().min(8);
+    w[..k].copy_from_slice(&b[..k]);
+    u64::from_le_bytes(w)
+}
+
+/// The slot tag of a label with hash `hash` and `len` bytes.
+#[inline]
+fn slot_tag(hash: u64, len: usize) -> u32 {
+    (((hash >> 40) as u32) << 8) | len.min(255) as u32
+}
+
+impl LabelIndex {
     fn new() -> Self {
         LabelIndex {
-            index: HashMap::new(),
-            labels: Vec::new(),
+            slots: vec![Slot::default(); 1024],
+            arena: String::new(),
+            ends: Vec::new(),
         }
     }
 
-    /// The index of `label`, adding it when new; `None` past 2^32 - 1 labels.
-    fn get_or_insert(&mut self, label: Cow<'a, str>) -> Option<u32> {
-        if let Some(&k) = self.index.get(label.as_ref()) {
-            return Some(k);
+    fn label(&self, k: usize) -> &str {
+        let start = if k == 0 { 0 } else { self.ends[k - 1] };
+        &self.arena[start..self.ends[k]]
+    }
+
+    /// Reads the first slot where a label of hash `hash` would be (to bring
+    /// it into cache).
+    #[inline]
+    fn peek(&self, hash: u64) -> u32 {
+        self.slots[hash as usize & (self.slots.len() - 1)].id1
+    }
+
+    /// The index of `label` (whose [`label_hash`] is `hash`), adding it when
+    /// new; `None` at 2^32 - 1 labels.
+    fn get_or_insert(&mut self, label: &str, hash: u64) -> Option<u32> {
+        let b = label.as_bytes();
+        let head = head_word(b);
+        let tag = slot_tag(hash, b.len());
+        let mask = self.slots.len() - 1;
+        let mut pos = hash as usize & mask;
+        loop {
+            let s = self.slots[pos];
+            if s.id1 == 0 {
+                break;
+            }
+            // Equal tags and heads decide labels of up to 8 bytes (the tag
+            // holds the exact length below 255).
+            if s.tag == tag
+                && s.head == head
+                && (b.len() <= 8 || self.label(s.id1 as usize - 1) == label)
+            {
+                return Some(s.id1 - 1);
+            }
+            pos = (pos + 1) & mask;
         }
-        let k = u32::try_from(self.labels.len()).ok()?;
-        self.labels.push(label.clone());
-        self.index.insert(label, k);
-        Some(k)
+        let id1 = u32::try_from(self.ends.len() + 1).ok()?;
+        self.arena.push_str(label);
+        self.ends.push(self.arena.len());
+        self.slots[pos] = Slot { head, tag, id1 };
+        if 2 * self.ends.len() > self.slots.len() {
+            self.grow();
+        }
+        Some(id1 - 1)
+    }
+
+    /// Doubles the table.
+    fn grow(&mut self) {
+        let mut slots = vec![Slot::default(); 2 * self.slots.len()];
+        let mask = slots.len() - 1;
+        for s in self.slots.iter().filter(|s| s.id1 != 0) {
+            let hash = label_hash(self.label(s.id1 as usize - 1).as_bytes());
+            let mut pos = hash as usize & mask;
+            while slots[pos].id1 != 0 {
+                pos = (pos + 1) & mask;
+            }
+            slots[pos] = *s;
+        }
+        self.slots = slots;
     }
 
     fn into_strings(self) -> Vec<String> {
-        self.labels.into_iter().map(Cow::into_owned).collect()
+        (0..self.ends.len())
+            .map(|k| self.label(k).to_string())
+            .collect()
     }
 }
 
-fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f64>> {
-    let mut rec: Vec<Cow<'_, str>> = Vec::with_capacity(4);
+/// Edge lines whose labels are looked up together (see [`resolve_batch`]).
+const LOOKUP_BATCH: usize = 256;
+
+/// Turns a batch of `(row label, column label, weight)` into entries, in
+/// order. Label lookups are memory-bound (one cache miss each on a large
+/// table), so the slots of the whole batch are first read in one loop of
+/// independent loads, which the processor overlaps, then looked up.
+fn resolve_batch(
+    batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
+    rows: &mut LabelIndex,
+    cols: &mut LabelIndex,
+    entries: &mut Vec<(u32, u32, f64)>,
+    source: &Path,
+) -> Result<()> {
+    let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
+    let mut touched = 0u32;
+    for (h, (r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
+        *h = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
+        touched ^= rows.peek(h.0) ^ cols.peek(h.1);
+    }
+    std::hint::black_box(touched);
+    for (h, (r, c, w)) in hashes.iter().zip(batch.drain(..)) {
+        match (rows.get_or_insert(&r, h.0), cols.get_or_insert(&c, h.1)) {
+            (Some(i), Some(j)) => entries.push((i, j, w)),
+            _ => {
+                return Err(Error::InvalidArgument(format!(
+                    "{}: more than 2^32 - 1 distinct labels on one side",
+                    source.display()
+                )))
+            }
+        }
+    }
+    Ok(())
+}
+
+/// A fast hash of a short byte string (not resistant to crafted collisions:
+/// a hostile file can only make reading slower). Eight bytes at a time,
+/// `h = (h.rotate_left(5) ^ word) * K` with the odd constant `K` =
+/// 2^64 / golden ratio, then the length, then the final mix of MurmurHash3
+/// (Appleby), so that low and high bits both depend on every byte.
+#[inline]
+fn label_hash(bytes: &[u8]) -> u64 {
+    const K: u64 = 0x9E37_79B9_7F4A_7C15;
+    let mut h = 0u64;
+    let mut chunks = bytes.chunks_exact(8);
+    for c in &mut chunks {
+        let mut w = [0u8; 8];
+        w.copy_from_slice(c);
+        h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    }
+    let rest = chunks.remainder();
+    let mut w = [0u8; 8];
+    w[..rest.len()].copy_from_slice(rest);
+    h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    h ^= bytes.len() as u64;
+    h ^= h >> 33;
+    h = h.wrapping_mul(0xFF51_AFD7_ED55_8CCD);
+    h ^= h >> 33;
+    h = h.wrapping_mul(0xC4CE_B9FE_1A85_EC53);
+    h ^ (h >> 33)
+}
+
+fn parse_edges<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<Network<f64>> {
+    let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
+    let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
     let lines_guess = fields.text.bytes().filter(|&b| b == b'\n').count() + 1;
     let mut rows = LabelIndex::new();
@@ -688,16 +842,24 @@ fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f6
         }
         let r = std::mem::take(&mut rec[0]);
         let c = std::mem::take(&mut rec[1]);
-        let too_many = || {
-            Error::InvalidArgument(format!(
-                "{}: more than 2^32 - 1 distinct labels on one side",
-                fields.source.display()
-            ))
-        };
-        let i = rows.get_or_insert(r).ok_or_else(too_many)?;
-        let j = cols.get_or_insert(c).ok_or_else(too_many)?;
-        entries.push((i, j, weight));
+        batch.push((r, c, weight));
+        if batch.len() == LOOKUP_BATCH {
+            resolve_batch(
+                &mut batch,
+                &mut rows,
+                &mut cols,
+                &mut entries,
+                fields.source,
+            )?;
+        }
     }
+    resolve_batch(
+        &mut batch,
+        &mut rows,
+        &mut cols,
+        &mut entries,
+        fields.source,
+    )?;
     if entries.is_empty() {
         return Err(match header_line {
             Some(l) => fields.error(
@@ -856,15 +1018,30 @@ mod tests {
     #[test]
     fn values_refuse_nan_inf_negative_and_words() {
         assert!(matches!(parse_value("2,5", true), Ok(x) if x == 2.5));
-        assert!(matches!(parse_value("2,5", false), Err(BadValue::NotNumber)));
+        assert!(matches!(
+            parse_value("2,5", false),
+            Err(BadValue::NotNumber)
+        ));
         assert!(matches!(parse_value("1e3", false), Ok(x) if x == 1000.0));
-        assert!(matches!(parse_value("NaN", false), Err(BadValue::NotANumberValue)));
+        assert!(matches!(
+            parse_value("NaN", false),
+            Err(BadValue::NotANumberValue)
+        ));
         assert!(matches!(parse_value("inf", false), Err(BadValue::Infinite)));
-        assert!(matches!(parse_value("-Infinity", false), Err(BadValue::Infinite)));
-        assert!(matches!(parse_value("1e400", false), Err(BadValue::Infinite)));
+        assert!(matches!(
+            parse_value("-Infinity", false),
+            Err(BadValue::Infinite)
+        ));
+        assert!(matches!(
+            parse_value("1e400", false),
+            Err(BadValue::Infinite)
+        ));
         assert!(matches!(parse_value("-1", false), Err(BadValue::Negative)));
         assert!(matches!(parse_value("-0", false), Ok(x) if x.to_bits() == 0));
-        assert!(matches!(parse_value("two", false), Err(BadValue::NotNumber)));
+        assert!(matches!(
+            parse_value("two", false),
+            Err(BadValue::NotNumber)
+        ));
     }
 
     #[test]
@@ -882,5 +1059,49 @@ mod tests {
             assert_eq!(b, s);
             assert_eq!(b.parse::<f64>().unwrap(), x);
         }
+    }
+
+    /// The label table against a slow reference (a std `HashMap` assigning
+    /// indices in order of first appearance), on labels that share their
+    /// first eight bytes, differ only by a trailing NUL, or exceed the
+    /// 255-byte length cap of the tag; enough of them to grow the table.
+    #[test]
+    fn label_index_matches_a_map() {
+        let long = "x".repeat(300);
+        let mut labels: Vec<String> = Vec::new();
+        for k in 0..3000 {
+            labels.push(format!("Bombus terrestris {k}"));
+            labels.push(format!("p{k}"));
+            labels.push(format!("{long}{}", k % 7));
+            labels.push(format!("{long}{}y", k % 5));
+        }
+        labels.extend([
+            "a".into(),
+            "a\0".into(),
+            "a\0\0".into(),
+            "".into(),
+            "é".into(),
+        ]);
+        // Visit in a scrambled order with repeats.
+        let order: Vec<usize> = (0..3 * labels.len())
+            .map(|k| (k * 7919) % labels.len())
+            .collect();
+        let mut fast = LabelIndex::new();
+        let mut slow: HashMap<&str, u32> = HashMap::new();
+        let mut slow_order: Vec<&str> = Vec::new();
+        for &k in &order {
+            let l = labels[k].as_str();
+            let next = slow.len() as u32;
+            let want = *slow.entry(l).or_insert_with(|| {
+                slow_order.push(l);
+                next
+            });
+            assert_eq!(
+                fast.get_or_insert(l, label_hash(l.as_bytes())),
+                Some(want),
+                "{l:?}"
+            );
+        }
+        assert_eq!(fast.into_strings(), slow_order);
     }
 }

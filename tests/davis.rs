@@ -58,9 +58,18 @@ fn davis_table_reads_and_nodf_matches_the_slow_reference() {
         let (rs, rp) = slow_side(&rows, order);
         let (cs, cp) = slow_side(&cols, order);
         let close = |a: f64, b: f64| (a - b).abs() <= 1e-12;
-        assert!(close(fast.rows.unwrap(), rs / rp as f64), "{order}: {fast:?}");
-        assert!(close(fast.cols.unwrap(), cs / cp as f64), "{order}: {fast:?}");
-        assert!(close(fast.total, (rs + cs) / (rp + cp) as f64), "{order}: {fast:?}");
+        assert!(
+            close(fast.rows.unwrap(), rs / rp as f64),
+            "{order}: {fast:?}"
+        );
+        assert!(
+            close(fast.cols.unwrap(), cs / cp as f64),
+            "{order}: {fast:?}"
+        );
+        assert!(
+            close(fast.total, (rs + cs) / (rp + cp) as f64),
+            "{order}: {fast:?}"
+        );
         // The reference is not trivially zero or 100 on this table.
         assert!(fast.total > 1.0 && fast.total < 99.0, "{order}: {fast:?}");
         println!("{order}: {fast:?}");

@@ -92,21 +92,57 @@ fn ragged_rows() {
 
 #[test]
 fn bad_values() {
-    expect_parse_error("word.csv", &MATRIX, 3, Some(3), &["\"many\" is not a number"]);
+    expect_parse_error(
+        "word.csv",
+        &MATRIX,
+        3,
+        Some(3),
+        &["\"many\" is not a number"],
+    );
     expect_parse_error("negative.csv", &MATRIX, 2, Some(3), &["\"-2\" is negative"]);
     expect_parse_error("nan.csv", &MATRIX, 3, Some(2), &["\"NaN\" is NaN"]);
     expect_parse_error("inf.csv", &MATRIX, 2, Some(2), &["\"inf\" is infinite"]);
-    expect_parse_error("edges_word.csv", &EDGES, 3, Some(3), &["\"lots\" is not a number"]);
+    expect_parse_error(
+        "edges_word.csv",
+        &EDGES,
+        3,
+        Some(3),
+        &["\"lots\" is not a number"],
+    );
     expect_parse_error("edges_negative.csv", &EDGES, 2, Some(3), &["negative"]);
 }
 
 #[test]
 fn bad_labels() {
-    expect_parse_error("dup_row.csv", &MATRIX, 4, Some(1), &["\"clover\"", "line 2"]);
+    expect_parse_error(
+        "dup_row.csv",
+        &MATRIX,
+        4,
+        Some(1),
+        &["\"clover\"", "line 2"],
+    );
     expect_parse_error("dup_col.csv", &MATRIX, 1, Some(5), &["\"bee\"", "field 2"]);
-    expect_parse_error("empty_row_label.csv", &MATRIX, 3, Some(1), &["empty row label"]);
-    expect_parse_error("empty_col_label.csv", &MATRIX, 1, Some(3), &["empty column label"]);
-    expect_parse_error("edges_empty_label.csv", &EDGES, 2, Some(2), &["empty column label"]);
+    expect_parse_error(
+        "empty_row_label.csv",
+        &MATRIX,
+        3,
+        Some(1),
+        &["empty row label"],
+    );
+    expect_parse_error(
+        "empty_col_label.csv",
+        &MATRIX,
+        1,
+        Some(3),
+        &["empty column label"],
+    );
+    expect_parse_error(
+        "edges_empty_label.csv",
+        &EDGES,
+        2,
+        Some(2),
+        &["empty column label"],
+    );
 }
 
 #[test]
@@ -119,7 +155,13 @@ fn bad_text() {
 #[test]
 fn bad_edge_lines() {
     expect_parse_error("edges_short.csv", &EDGES, 3, None, &["1 field"]);
-    expect_parse_error("edges_long.csv", &EDGES, 2, None, &["4 fields", "at most 3"]);
+    expect_parse_error(
+        "edges_long.csv",
+        &EDGES,
+        2,
+        None,
+        &["4 fields", "at most 3"],
+    );
 }
 
 #[test]
@@ -132,7 +174,10 @@ fn no_nonzero_cell() {
 fn missing_or_unreadable_file() {
     let path = bad("no_such_file.csv");
     let err = read_network(&path, &MATRIX).unwrap_err();
-    assert!(matches!(&err, Error::Io { path: p, .. } if p == &path), "{err:?}");
+    assert!(
+        matches!(&err, Error::Io { path: p, .. } if p == &path),
+        "{err:?}"
+    );
     assert!(err.to_string().contains("no_such_file.csv"));
     // A directory cannot be read as a file.
     let dir = bad("");
@@ -189,14 +234,22 @@ fn matrix_layout_rules() {
 
 #[test]
 fn tab_and_semicolon_delimiters() {
-    let tab = parse("site\tbeetle one\tmoth\nisle A\t1\t\nisle B\t1\t1\n", &MATRIX).unwrap();
+    let tab = parse(
+        "site\tbeetle one\tmoth\nisle A\t1\t\nisle B\t1\t1\n",
+        &MATRIX,
+    )
+    .unwrap();
     assert_eq!(tab.col_labels(), ["beetle one", "moth"]);
     assert_eq!(cells(&tab), vec![vec![1.0, 0.0], vec![1.0, 1.0]]);
     // Decimal comma only with semicolons.
     let semi = parse("site;a;b\nx;2,5;0,25\ny;1.5;\n", &MATRIX).unwrap();
     assert_eq!(cells(&semi), vec![vec![2.5, 0.25], vec![1.5, 0.0]]);
     let err = parse("site,a,b\nx,\"2,5\",1\n", &MATRIX).unwrap_err();
-    assert!(err.to_string().contains("line 2, field 2: \"2,5\" is not a number"), "{err}");
+    assert!(
+        err.to_string()
+            .contains("line 2, field 2: \"2,5\" is not a number"),
+        "{err}"
+    );
 }
 
 /// Edge lists: repeated pairs summed, missing or empty weight 1, labels in
@@ -204,19 +257,26 @@ fn tab_and_semicolon_delimiters() {
 /// with a slow reference that sums with a map.
 #[test]
 fn edges_sum_repeats_in_first_appearance_order() {
-    let text = "clover,bee\nthyme,fly,2\n\nclover,bee,\nbee,clover,0.5\nclover, fly ,3\nthyme,bee,0\n";
+    let text =
+        "clover,bee\nthyme,fly,2\n\nclover,bee,\nbee,clover,0.5\nclover, fly ,3\nthyme,bee,0\n";
     let net = parse(text, &EDGES).unwrap();
     assert_eq!(net.row_labels(), ["clover", "thyme", "bee"]);
     assert_eq!(net.col_labels(), ["bee", "fly", "clover"]);
     let mut reference: HashMap<(&str, &str), f64> = HashMap::new();
     for line in text.lines().filter(|l| !l.trim().is_empty()) {
         let f: Vec<&str> = line.split(',').map(str::trim).collect();
-        let w = f.get(2).filter(|w| !w.is_empty()).map_or(1.0, |w| w.parse().unwrap());
+        let w = f
+            .get(2)
+            .filter(|w| !w.is_empty())
+            .map_or(1.0, |w| w.parse().unwrap());
         *reference.entry((f[0], f[1])).or_default() += w;
     }
     for (i, r) in net.row_labels().iter().enumerate() {
         for (j, c) in net.col_labels().iter().enumerate() {
-            let want = reference.get(&(r.as_str(), c.as_str())).copied().unwrap_or(0.0);
+            let want = reference
+                .get(&(r.as_str(), c.as_str()))
+                .copied()
+                .unwrap_or(0.0);
             assert_eq!(net.get(i, j), want, "{r} {c}");
         }
     }
@@ -244,7 +304,11 @@ fn edge_header_detection() {
         ..EDGES
     };
     let err = parse("plant,visitor,visits\nclover,bee,3\n", &absent).unwrap_err();
-    assert!(err.to_string().contains("line 1, field 3: \"visits\" is not a number"), "{err}");
+    assert!(
+        err.to_string()
+            .contains("line 1, field 3: \"visits\" is not a number"),
+        "{err}"
+    );
     // Auto: a numeric third field on line 1 is data.
     let net = parse("clover;bee;2,5\nthyme;bee\n", &EDGES).unwrap();
     assert_eq!(net.get(0, 0), 2.5);
@@ -305,7 +369,10 @@ fn sparse_edge_list() {
         .map(|(k, l)| (l.as_str(), k))
         .collect();
     for (&(i, j), &w) in &reference {
-        let (r, c) = (rows[format!("p{i}").as_str()], cols[format!("v{j}").as_str()]);
+        let (r, c) = (
+            rows[format!("p{i}").as_str()],
+            cols[format!("v{j}").as_str()],
+        );
         assert_eq!(net.get(r, c), w);
     }
 }
@@ -359,7 +426,11 @@ fn write_then_read_round_trips_exactly() {
             assert_eq!(back.col_labels(), net.col_labels(), "case {case}");
             for i in 0..m {
                 for j in 0..n {
-                    assert_eq!(back.get(i, j).to_bits(), net.get(i, j).to_bits(), "case {case}");
+                    assert_eq!(
+                        back.get(i, j).to_bits(),
+                        net.get(i, j).to_bits(),
+                        "case {case}"
+                    );
                 }
             }
         }
