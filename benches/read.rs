@@ -75,8 +75,12 @@ fn bench_matrix(c: &mut Criterion) {
     group.throughput(Throughput::Bytes(text.len() as u64));
     group.bench_function("500x500", |b| {
         b.iter(|| {
-            parse_network(black_box(&text), Path::new("bench.csv"), &ReadOptions::default())
-                .unwrap()
+            parse_network(
+                black_box(&text),
+                Path::new("bench.csv"),
+                &ReadOptions::default(),
+            )
+            .unwrap()
         })
     });
     group.finish();
