@@ -871,9 +871,9 @@ fn edge_chunk<'a>(fields: &mut Fields<'a>, header: Option<EdgeHeader>) -> Result
     Ok(chunk)
 }
 
-/// Files at least this large, without any quote character, are parsed in
-/// parallel stretches.
-const PARALLEL_MIN_BYTES: usize = 1 << 20;
+/// Edge lists without any quote character are parsed in parallel
+/// stretches of at least this many bytes (so from 1 MiB on).
+const PARALLEL_MIN_BYTES: usize = 1 << 19;
 
 /// Reads an edge list. A large file without quotes (so every line break
 /// ends a line) is cut at line breaks into stretches parsed in parallel,

@@ -500,3 +500,39 @@ fn quoted_text_agrees_with_the_csv_crate() {
         }
     }
 }
+
+/// An edge list over 1 MiB (read in two parallel stretches when rayon has
+/// two or more threads; the sequential path otherwise) against a slow
+/// reference: a map summing weights and first-appearance orders kept by
+/// hand. `io::tests::parallel_edges_equal_sequential` forces the stretches.
+#[test]
+fn large_edge_list_matches_a_map() {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(11);
+    let mut text = String::from("plant,visitor,visits\n");
+    let mut sums: HashMap<(String, String), f64> = HashMap::new();
+    let (mut row_order, mut col_order): (Vec<String>, Vec<String>) = (Vec::new(), Vec::new());
+    let (mut row_at, mut col_at): (HashMap<String, usize>, HashMap<String, usize>) =
+        (HashMap::new(), HashMap::new());
+    while text.len() < (1 << 20) + 1000 {
+        let r = format!("plant number {}", rng.random_range(0..3000u32));
+        let c = format!("v{}", rng.random_range(0..500u32));
+        let w = rng.random_range(1..=20u32) as f64;
+        text.push_str(&format!("{r},{c},{w}\n"));
+        if !row_at.contains_key(&r) {
+            row_at.insert(r.clone(), row_order.len());
+            row_order.push(r.clone());
+        }
+        if !col_at.contains_key(&c) {
+            col_at.insert(c.clone(), col_order.len());
+            col_order.push(c.clone());
+        }
+        *sums.entry((r, c)).or_default() += w;
+    }
+    let net = parse(&text, &EDGES).unwrap();
+    assert_eq!(net.row_labels(), row_order);
+    assert_eq!(net.col_labels(), col_order);
+    assert_eq!(net.links(), sums.len()); // every other cell is 0
+    for ((r, c), w) in &sums {
+        assert_eq!(net.get(row_at[r], col_at[c]), *w, "{r} {c}");
+    }
+}
