@@ -31,11 +31,8 @@
 //!
 //! Cost: one pass over the bytes after reading the whole file into memory;
 //! no allocation per field except for labels (one copy per distinct label)
-//! and quoted fields holding a doubled quote. Edge lists of 1 MiB or more
-//! without quote characters are parsed in parallel stretches (rayon) and
-//! merged in file order, with results identical to a sequential read.
-//! Memory: the file's bytes plus the network (for edge lists, 16 bytes per
-//! line before summing, twice that while stretches are merged).
+//! and quoted fields holding a doubled quote. Memory: the file's bytes plus
+//! the network (for edge lists, 16 bytes per line before summing).
 
 use std::borrow::Cow;
 use std::collections::HashMap;
@@ -719,7 +716,7 @@ const LOOKUP_BATCH: usize = 256;
 /// independent loads, which the processor overlaps, then looked up.
 fn resolve_batch(
     batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
-    chunk: &mut EdgeChunk,
+    chunk: &mut EdgeLines,
     source: &Path,
 ) -> Result<()> {
     let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
@@ -773,39 +770,36 @@ fn label_hash(bytes: &[u8]) -> u64 {
     h ^ (h >> 33)
 }
 
-/// The edge lines of one stretch of a file, with labels indexed locally.
-struct EdgeChunk {
+/// The edge lines of a file, with labels indexed.
+struct EdgeLines {
     rows: LabelIndex,
     cols: LabelIndex,
     entries: Vec<(u32, u32, f64)>,
     /// The line skipped as a header, if any.
     header_line: Option<usize>,
-    /// Whether any non-blank line was seen (header included).
-    any_record: bool,
 }
 
-/// Parses the edge lines that `fields` yields. `header` says how to treat
-/// the first non-blank line; `None` reads every line as data (a stretch
-/// after the start of the file).
-fn edge_chunk<'a>(fields: &mut Fields<'a>, header: Option<EdgeHeader>) -> Result<EdgeChunk> {
+/// Parses the edge lines that `fields` yields; `header` says how to treat
+/// the first non-blank line.
+fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
     let lines_guess = fields.text.bytes().filter(|&b| b == b'\n').count() + 1;
-    let mut chunk = EdgeChunk {
+    let mut chunk = EdgeLines {
         rows: LabelIndex::new(),
         cols: LabelIndex::new(),
         entries: Vec::with_capacity(lines_guess),
         header_line: None,
-        any_record: false,
     };
+    let mut first = true;
     while let Some(line) = fields.next_record(&mut rec)? {
-        if !chunk.any_record {
-            chunk.any_record = true;
+        if first {
+            first = false;
             let skip = match header {
-                None | Some(EdgeHeader::Absent) => false,
-                Some(EdgeHeader::Present) => true,
-                Some(EdgeHeader::Auto) => {
+                EdgeHeader::Absent => false,
+                EdgeHeader::Present => true,
+                EdgeHeader::Auto => {
                     rec.len() == 3
                         && !rec[2].is_empty()
                         && matches!(
@@ -871,28 +865,9 @@ fn edge_chunk<'a>(fields: &mut Fields<'a>, header: Option<EdgeHeader>) -> Result
     Ok(chunk)
 }
 
-/// Edge lists without any quote character are parsed in parallel
-/// stretches of at least this many bytes (so from 1 MiB on).
-const PARALLEL_MIN_BYTES: usize = 1 << 19;
-
-/// Reads an edge list. A large file without quotes (so every line break
-/// ends a line) is cut at line breaks into stretches parsed in parallel,
-/// each indexing its labels locally; the stretches are then merged in file
-/// order, so labels keep their order of first appearance, entries their
-/// file order and errors are those of the first bad line: the result is
-/// identical to a sequential read.
+/// Reads an edge list (all lines in one pass; see [`edge_lines`]).
 fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f64>> {
-    let text = fields.text;
-    let stretches = rayon::current_num_threads().min(text.len() / PARALLEL_MIN_BYTES);
-    let chunk = if stretches >= 2 && !text.as_bytes().contains(&b'"') {
-        parse_edges_parallel(fields, header, stretches)?
-    } else {
-        None
-    };
-    let chunk = match chunk {
-        Some(c) => c,
-        None => edge_chunk(fields, Some(header))?,
-    };
+    let chunk = edge_lines(fields, header)?;
     if chunk.entries.is_empty() {
         return Err(match chunk.header_line {
             Some(l) => fields.error(
@@ -912,106 +887,6 @@ fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f6
         chunk.cols.into_strings(),
         chunk.entries,
     )
-}
-
-/// The parallel path of [`parse_edges`]; `Ok(None)` when the first stretch
-/// holds no line (then the sequential path decides about the header).
-fn parse_edges_parallel(
-    fields: &Fields<'_>,
-    header: EdgeHeader,
-    stretches: usize,
-) -> Result<Option<EdgeChunk>> {
-    use rayon::prelude::*;
-    let text = fields.text;
-    let bytes = text.as_bytes();
-    // Cut points just after a line break near each k/stretches of the text.
-    let mut cuts = vec![0usize];
-    for k in 1..stretches {
-        let at = (text.len() * k / stretches).max(*cuts.last().unwrap_or(&0));
-        if let Some(p) = bytes[at..].iter().position(|&b| b == b'\n') {
-            cuts.push(at + p + 1);
-        }
-    }
-    cuts.push(text.len());
-    cuts.dedup();
-    let parts: Vec<(Result<EdgeChunk>, usize)> = cuts
-        .par_windows(2)
-        .enumerate()
-        .map(|(k, w)| {
-            let mut f = Fields::new(&text[w[0]..w[1]], fields.delim, fields.source);
-            let first = (k == 0).then_some(header);
-            let chunk = edge_chunk(&mut f, first);
-            let newlines = bytes[w[0]..w[1]].iter().filter(|&&b| b == b'\n').count();
-            (chunk, newlines)
-        })
-        .collect();
-    let mut merged: Option<EdgeChunk> = None;
-    let mut line_offset = 0usize;
-    for (chunk, newlines) in parts {
-        let chunk = chunk.map_err(|e| shift_line(e, line_offset))?;
-        line_offset += newlines;
-        match merged.as_mut() {
-            None => {
-                if !chunk.any_record {
-                    return Ok(None);
-                }
-                merged = Some(chunk);
-            }
-            Some(m) => m.append(chunk, fields.source)?,
-        }
-    }
-    Ok(merged)
-}
-
-/// Moves a parse error down by `offset` lines (for a stretch of a file).
-fn shift_line(e: Error, offset: usize) -> Error {
-    match e {
-        Error::Parse {
-            path,
-            line,
-            column,
-            message,
-        } => Error::Parse {
-            path,
-            line: line + offset,
-            column,
-            message,
-        },
-        other => other,
-    }
-}
-
-impl EdgeChunk {
-    /// Appends a later stretch: its labels not seen yet get the next
-    /// indices in its own order of first appearance, and its entries are
-    /// renumbered.
-    fn append(&mut self, later: EdgeChunk, source: &Path) -> Result<()> {
-        let too_many = || {
-            Error::InvalidArgument(format!(
-                "{}: more than 2^32 - 1 distinct labels on one side",
-                source.display()
-            ))
-        };
-        let remap = |index: &mut LabelIndex, local: &LabelIndex| -> Result<Vec<u32>> {
-            (0..local.ends.len())
-                .map(|k| {
-                    let l = local.label(k);
-                    index
-                        .get_or_insert(l, label_hash(l.as_bytes()))
-                        .ok_or_else(too_many)
-                })
-                .collect()
-        };
-        let rows = remap(&mut self.rows, &later.rows)?;
-        let cols = remap(&mut self.cols, &later.cols)?;
-        self.entries.extend(
-            later
-                .entries
-                .iter()
-                .map(|&(i, j, w)| (rows[i as usize], cols[j as usize], w)),
-        );
-        Ok(())
-    }
 }
 
 /// Writes a network in the matrix layout: a header line whose first cell is
@@ -1240,64 +1115,5 @@ mod tests {
             );
         }
         assert_eq!(fast.into_strings(), slow_order);
-    }
-
-    fn sequential(text: &str, header: EdgeHeader) -> Result<EdgeChunk> {
-        let mut f = Fields::new(text, detect_delimiter(text.as_bytes()), Path::new("t"));
-        edge_chunk(&mut f, Some(header))
-    }
-
-    fn parallel(text: &str, header: EdgeHeader, stretches: usize) -> Result<Option<EdgeChunk>> {
-        let f = Fields::new(text, detect_delimiter(text.as_bytes()), Path::new("t"));
-        parse_edges_parallel(&f, header, stretches)
-    }
-
-    fn labels(index: &LabelIndex) -> Vec<String> {
-        (0..index.ends.len())
-            .map(|k| index.label(k).to_string())
-            .collect()
-    }
-
-    /// The parallel path gives exactly the sequential result (labels in
-    /// first-appearance order, entries in file order) and the same first
-    /// error, whatever the number of stretches.
-    #[test]
-    fn parallel_edges_equal_sequential() {
-        use rand::{Rng, SeedableRng};
-        let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(5);
-        for case in 0..40 {
-            let mut text = String::from(if case % 2 == 0 { "from,to,w\r\n" } else { "" });
-            for _ in 0..rng.random_range(1..400) {
-                if rng.random_bool(0.05) {
-                    text.push_str("  \n");
-                }
-                let (i, j) = (rng.random_range(0..30), rng.random_range(0..25));
-                match rng.random_range(0..3) {
-                    0 => text.push_str(&format!("r{i}, c{j}\n")),
-                    1 => text.push_str(&format!("r{i},c{j},{}\r\n", rng.random_range(0..9))),
-                    _ => text.push_str(&format!("c{j},r{i},\n")),
-                }
-            }
-            let seq = sequential(&text, EdgeHeader::Auto).unwrap();
-            for stretches in 2..6 {
-                let par = parallel(&text, EdgeHeader::Auto, stretches)
-                    .unwrap()
-                    .unwrap();
-                assert_eq!(labels(&par.rows), labels(&seq.rows), "case {case}");
-                assert_eq!(labels(&par.cols), labels(&seq.cols), "case {case}");
-                assert_eq!(par.entries, seq.entries, "case {case}");
-                assert_eq!(par.header_line, seq.header_line, "case {case}");
-            }
-            // A bad line late in the file: same error, same physical line.
-            let bad = format!("{text}\nr1,c1,many\nr2,c2,-1\n");
-            let want = sequential(&bad, EdgeHeader::Auto)
-                .err()
-                .unwrap()
-                .to_string();
-            for stretches in 2..6 {
-                let got = parallel(&bad, EdgeHeader::Auto, stretches).err().unwrap();
-                assert_eq!(got.to_string(), want, "case {case}");
-            }
-        }
     }
 }

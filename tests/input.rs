@@ -501,10 +501,9 @@ fn quoted_text_agrees_with_the_csv_crate() {
     }
 }
 
-/// An edge list over 1 MiB (read in two parallel stretches when rayon has
-/// two or more threads; the sequential path otherwise) against a slow
+/// An edge list over 1 MiB (label table grown many times) against a slow
 /// reference: a map summing weights and first-appearance orders kept by
-/// hand. `io::tests::parallel_edges_equal_sequential` forces the stretches.
+/// hand.
 #[test]
 fn large_edge_list_matches_a_map() {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(11);
