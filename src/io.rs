@@ -444,6 +444,17 @@ fn delim_name(d: u8) -> &'static str {
     }
 }
 
+/// A hint for lines with too many fields in a comma-delimited file, where
+/// decimal commas are the usual cause.
+fn decimal_comma_hint(delim: u8, too_many: bool) -> &'static str {
+    if delim == b',' && too_many {
+        " (a decimal comma splits a value in two when commas delimit fields: \
+         write decimal points, or use ';' as the delimiter)"
+    } else {
+        ""
+    }
+}
+
 /// Why a value was refused.
 enum BadValue {
     NotNumber,
@@ -539,9 +550,10 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
                 line,
                 None,
                 format!(
-                    "this line has {} field{}, expected {width} like the header on line {header_line}",
+                    "this line has {} field{}, expected {width} like the header on line {header_line}{}",
                     rec.len(),
-                    if rec.len() == 1 { "" } else { "s" }
+                    if rec.len() == 1 { "" } else { "s" },
+                    decimal_comma_hint(fields.delim, rec.len() > width)
                 ),
             ));
         }
@@ -829,8 +841,9 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
                 line,
                 None,
                 format!(
-                    "this line has {} fields; expected at most 3: a row label, a column label and an optional weight",
-                    rec.len()
+                    "this line has {} fields; expected at most 3: a row label, a column label and an optional weight{}",
+                    rec.len(),
+                    decimal_comma_hint(fields.delim, rec.len() > 3)
                 ),
             ));
         }

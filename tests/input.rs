@@ -244,6 +244,11 @@ fn tab_and_semicolon_delimiters() {
     // Decimal comma only with semicolons.
     let semi = parse("site;a;b\nx;2,5;0,25\ny;1.5;\n", &MATRIX).unwrap();
     assert_eq!(cells(&semi), vec![vec![2.5, 0.25], vec![1.5, 0.0]]);
+    let err = parse("site,a,b\nx,2,5,1\n", &MATRIX).unwrap_err();
+    assert!(err.to_string().contains("4 fields, expected 3"), "{err}");
+    assert!(err.to_string().contains("decimal comma"), "{err}");
+    let err = parse("x,a,2,5\n", &EDGES).unwrap_err();
+    assert!(err.to_string().contains("decimal comma"), "{err}");
     let err = parse("site,a,b\nx,\"2,5\",1\n", &MATRIX).unwrap_err();
     assert!(
         err.to_string()
