@@ -18,7 +18,9 @@
 
 pub mod bits;
 pub mod error;
+pub mod index;
 pub mod io;
+pub mod measure;
 pub mod metrics;
 pub mod network;
 

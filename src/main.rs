@@ -1,2 +1,7 @@
-//! The `nidus` command line (work in progress: the lead wires subcommands here).
-fn main() {}
+//! The `nidus` command line: a thin layer over the library.
+
+mod cli;
+
+fn main() -> std::process::ExitCode {
+    cli::main()
+}

@@ -13,7 +13,8 @@ pub use nodf::{nodf, nodf_bits, Nodf};
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Order {
     /// Rows and columns by decreasing degree, ties in input order.
     #[default]
@@ -66,7 +67,7 @@ pub(crate) fn pairs(k: usize) -> usize {
 
 /// An index split into its row part, column part and total, as NODF and
 /// WNODF are. A part whose side has fewer than two members is `None`.
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
 pub struct Parts {
     /// Pairs of both sides together.
     pub total: f64,

@@ -1,0 +1,92 @@
+//! `nidus measure`: every requested index of every file.
+
+use std::io::{self, Write};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::Args;
+use nidus::io::{read_network, EdgeHeader, Layout, ReadOptions};
+use nidus::measure::{measure, Family, MeasureOptions};
+use nidus::Order;
+
+use super::report::Table;
+use super::{parse_list, Format, List, EXIT_INPUT};
+
+#[derive(Args, Debug)]
+pub struct MeasureArgs {
+    /// Network files (see README for the two layouts).
+    #[arg(required = true, value_name = "FILE")]
+    files: Vec<PathBuf>,
+    /// Row and column order for NODF and WNODF: sorted (by decreasing degree) or given (as in the file).
+    #[arg(long, default_value = "sorted", value_name = "sorted|given")]
+    order: Order,
+    /// File layout: matrix (a table with labels) or edges (one interaction per line).
+    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
+    layout: Layout,
+    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
+    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
+    edge_header: EdgeHeader,
+    /// Indices to compute, comma-separated (default: all).
+    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>)]
+    indices: Option<List<Family>>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+}
+
+pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
+    let read = ReadOptions {
+        layout: args.layout,
+        edge_header: args.edge_header,
+    };
+    let opts = MeasureOptions {
+        order: args.order,
+        families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
+    };
+    let table = Table::new(args.format, &opts);
+    let stdout = io::stdout();
+    let mut out = stdout.lock();
+    let mut failed = 0usize;
+    let write = |out: &mut io::StdoutLock<'_>, text: String| -> bool {
+        match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+            Ok(()) => true,
+            Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
+            Err(e) => {
+                eprintln!("nidus: cannot write the output: {e}");
+                false
+            }
+        }
+    };
+    if let Some(h) = table.header() {
+        if !write(&mut out, h) {
+            return Ok(ExitCode::SUCCESS);
+        }
+    }
+    for file in &args.files {
+        let result = read_network(file, &read).and_then(|net| measure(&net, &opts));
+        match result {
+            Ok(m) => {
+                if !write(&mut out, table.record(&file.display().to_string(), &m)) {
+                    break;
+                }
+            }
+            Err(e) => {
+                failed += 1;
+                let msg = e.to_string();
+                let shown = file.display().to_string();
+                if msg.starts_with(&shown) {
+                    eprintln!("nidus: {msg}");
+                } else {
+                    eprintln!("nidus: {shown}: {msg}");
+                }
+            }
+        }
+    }
+    if failed > 0 {
+        if args.files.len() > 1 {
+            eprintln!("nidus: {failed} of {} files failed", args.files.len());
+        }
+        return Ok(ExitCode::from(EXIT_INPUT));
+    }
+    Ok(ExitCode::SUCCESS)
+}

@@ -1,0 +1,140 @@
+//! Every index of one network in one call: what `nidus measure` prints.
+//!
+//! Adding an index: a variant of [`Family`] (with its name), a field of
+//! [`Measurement`], and a line in [`measure`]; the command line's three
+//! output formats then need one entry each in `src/cli/report.rs`.
+
+use std::fmt;
+use std::str::FromStr;
+
+use crate::error::{Error, Result};
+use crate::metrics::{self, Order, Parts};
+use crate::network::{Network, Weight};
+
+/// A family of indices that `measure` can compute.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Family {
+    /// NODF with its row and column parts.
+    Nodf,
+    /// WNODF with its row and column parts.
+    Wnodf,
+}
+
+impl Family {
+    /// All families, in output order.
+    pub const ALL: &'static [Family] = &[Family::Nodf, Family::Wnodf];
+
+    /// Name on the command line and in output.
+    pub fn name(self) -> &'static str {
+        match self {
+            Family::Nodf => "nodf",
+            Family::Wnodf => "wnodf",
+        }
+    }
+}
+
+impl fmt::Display for Family {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Family {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        Family::ALL
+            .iter()
+            .copied()
+            .find(|k| k.name() == s)
+            .ok_or_else(|| {
+                let names: Vec<&str> = Family::ALL.iter().map(|k| k.name()).collect();
+                Error::InvalidArgument(format!(
+                    "unknown index '{s}': expected one of {}",
+                    names.join(", ")
+                ))
+            })
+    }
+}
+
+/// What to compute.
+#[derive(Clone, Debug)]
+pub struct MeasureOptions {
+    /// Order for NODF and WNODF.
+    pub order: Order,
+    /// Families to compute, in any order (each at most once).
+    pub families: Vec<Family>,
+}
+
+impl Default for MeasureOptions {
+    fn default() -> Self {
+        MeasureOptions {
+            order: Order::Sorted,
+            families: Family::ALL.to_vec(),
+        }
+    }
+}
+
+impl MeasureOptions {
+    /// True when `f` is to be computed.
+    pub fn wants(&self, f: Family) -> bool {
+        self.families.contains(&f)
+    }
+}
+
+/// The description of a network and the indices asked for. An index not
+/// asked for is `None`; so is WNODF of a binary network (it would be 0 by
+/// definition, which says nothing).
+#[derive(Clone, Debug, serde::Serialize)]
+pub struct Measurement {
+    /// Number of rows.
+    pub rows: usize,
+    /// Number of columns.
+    pub cols: usize,
+    /// Number of non-zero cells.
+    pub links: usize,
+    /// `links / (rows cols)`.
+    pub fill: f64,
+    /// True when some non-zero weight differs from 1.
+    pub weighted: bool,
+    /// The order used by NODF and WNODF.
+    pub order: Order,
+    /// NODF (Almeida-Neto et al. 2008).
+    pub nodf: Option<Parts>,
+    /// WNODF (Almeida-Neto & Ulrich 2011); `None` for a binary network.
+    pub wnodf: Option<Parts>,
+}
+
+/// Computes the description of `net` and the indices `opts` asks for.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{measure::{measure, MeasureOptions}, Network};
+/// let net = Network::from_array(array![[5.0, 4.0, 3.0], [2.0, 1.0, 0.0], [1.0, 0.0, 0.0]]).unwrap();
+/// let m = measure(&net, &MeasureOptions::default()).unwrap();
+/// assert_eq!(m.nodf.unwrap().total, 100.0);
+/// assert_eq!(m.wnodf.unwrap().total, 100.0);
+/// ```
+pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Measurement> {
+    let weighted = net.is_weighted();
+    let nodf = if opts.wants(Family::Nodf) {
+        Some(metrics::nodf(net, opts.order)?)
+    } else {
+        None
+    };
+    let wnodf = if opts.wants(Family::Wnodf) && weighted {
+        Some(metrics::wnodf(net, opts.order)?)
+    } else {
+        None
+    };
+    Ok(Measurement {
+        rows: net.nrows(),
+        cols: net.ncols(),
+        links: net.links(),
+        fill: net.fill(),
+        weighted,
+        order: opts.order,
+        nodf,
+        wnodf,
+    })
+}

@@ -1,0 +1,176 @@
+//! The `nidus` binary end to end: JSON output against the slow reference of
+//! tests/common (METHODS.md §1-2), several files per call, exit statuses.
+
+mod common;
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+use common::*;
+use rand::Rng;
+use serde_json::Value;
+
+fn nidus(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_nidus"))
+        .args(args)
+        .output()
+        .expect("run nidus")
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("nidus-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+fn write_matrix(path: &Path, w: &Mat) {
+    let mut s = String::from("species");
+    for j in 0..w[0].len() {
+        s += &format!(",c{j}");
+    }
+    s.push('\n');
+    for (i, row) in w.iter().enumerate() {
+        s += &format!("r{i}");
+        for x in row {
+            s += &format!(",{x}");
+        }
+        s.push('\n');
+    }
+    std::fs::write(path, s).unwrap();
+}
+
+fn num(v: &Value) -> Option<f64> {
+    v.as_f64()
+}
+
+/// `nidus measure --format json` on matrices it has never seen agrees with
+/// the reference in both orders to 1e-9 (the acceptance check).
+#[test]
+fn json_matches_reference_on_random_files() {
+    let mut rng = rng(99);
+    let mut files = Vec::new();
+    let mut mats = Vec::new();
+    while files.len() < 25 {
+        let (m, n) = (rng.random_range(2..20), rng.random_range(2..20));
+        let fill = rng.random_range(0.1..0.9);
+        let w = random_matrix(&mut rng, m, n, fill, 6);
+        if w.iter().flatten().all(|&x| x == 0.0) {
+            continue;
+        }
+        let p = scratch(&format!("rand{}.csv", files.len()));
+        write_matrix(&p, &w);
+        files.push(p.display().to_string());
+        mats.push(w);
+    }
+    for (order, sorted) in [("sorted", true), ("given", false)] {
+        let mut args = vec![
+            "measure",
+            "--format",
+            "json",
+            "--order",
+            order,
+            "--indices",
+            "nodf,wnodf",
+        ];
+        args.extend(files.iter().map(String::as_str));
+        let out = nidus(&args);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let text = String::from_utf8(out.stdout).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines.len(), files.len());
+        for ((line, w), file) in lines.iter().zip(&mats).zip(&files) {
+            let v: Value = serde_json::from_str(line).unwrap();
+            assert_eq!(v["file"], file.as_str());
+            assert_eq!(v["order"], order);
+            assert_eq!(v["rows"], w.len());
+            assert_eq!(v["cols"], w[0].len());
+            let links = w.iter().flatten().filter(|&&x| x > 0.0).count();
+            assert_eq!(v["links"], links);
+            for (key, weighted) in [("nodf", false), ("wnodf", true)] {
+                let r = reference_nodf(w, sorted, weighted);
+                if weighted && v["weighted"] == false {
+                    assert!(v[key].is_null());
+                    continue;
+                }
+                let got = &v[key];
+                assert!(
+                    (num(&got["total"]).unwrap() - r.0).abs() < 1e-9,
+                    "{file} {key}"
+                );
+                assert!(
+                    (num(&got["rows"]).unwrap() - r.1.unwrap()).abs() < 1e-9,
+                    "{file} {key}"
+                );
+                assert!(
+                    (num(&got["cols"]).unwrap() - r.2.unwrap()).abs() < 1e-9,
+                    "{file} {key}"
+                );
+            }
+        }
+    }
+}
+
+/// A failing file among good ones: the others are still measured, the
+/// failure is reported on stderr with its name, and the exit status is 2.
+#[test]
+fn one_bad_file_among_good_ones() {
+    let good = scratch("good.csv");
+    write_matrix(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
+    let missing = scratch("does-not-exist.csv");
+    let out = nidus(&[
+        "measure",
+        "--format",
+        "csv",
+        good.to_str().unwrap(),
+        missing.to_str().unwrap(),
+        good.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    assert_eq!(stdout.lines().count(), 3, "header and two rows: {stdout}");
+    let stderr = String::from_utf8(out.stderr).unwrap();
+    assert!(stderr.contains("does-not-exist.csv"), "{stderr}");
+    assert!(!stderr.contains("panicked"), "{stderr}");
+}
+
+/// Bad options exit 2 with a message, never a panic.
+#[test]
+fn bad_options_exit_2() {
+    let good = scratch("opts.csv");
+    write_matrix(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
+    let g = good.to_str().unwrap();
+    for args in [
+        vec!["measure", g, "--indices", "nonsense"],
+        vec!["measure", g, "--indices", "nodf,nodf"],
+        vec!["measure", g, "--order", "upside-down"],
+        vec!["measure", g, "--layout", "pyramid"],
+        vec!["measure", g, "--format", "xml"],
+        vec!["measure"],
+        vec!["measure", g, "--threads", "0"],
+    ] {
+        let out = nidus(&args);
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {stderr}");
+        assert!(
+            !stderr.contains("panicked") && !stderr.is_empty(),
+            "{args:?}: {stderr}"
+        );
+    }
+}
+
+/// `--threads 1` and `--threads 2` print the same bytes.
+#[test]
+fn thread_count_does_not_change_output() {
+    let mut rng = rng(5);
+    let p = scratch("threads.csv");
+    write_matrix(&p, &random_matrix(&mut rng, 40, 60, 0.3, 9));
+    let f = p.to_str().unwrap();
+    let a = nidus(&["measure", "--format", "json", "--threads", "1", f]);
+    let b = nidus(&["measure", "--format", "json", "--threads", "2", f]);
+    assert!(a.status.success());
+    assert_eq!(a.stdout, b.stdout);
+}

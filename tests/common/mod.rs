@@ -1,0 +1,101 @@
+//! Shared helpers for the integration tests: slow references written
+//! straight from ../shared/METHODS.md, and seeded random matrices.
+#![allow(dead_code)]
+
+use rand::{Rng, SeedableRng};
+use rand_xoshiro::Xoshiro256PlusPlus;
+
+/// A matrix as plain nested vectors, the form the references read.
+pub type Mat = Vec<Vec<f64>>;
+
+/// Seeded generator for test inputs.
+pub fn rng(seed: u64) -> Xoshiro256PlusPlus {
+    Xoshiro256PlusPlus::seed_from_u64(seed)
+}
+
+/// A random `m x n` matrix: each cell non-zero with probability `fill`,
+/// weights drawn from `1..=max_weight` (so ties are common).
+pub fn random_matrix(rng: &mut impl Rng, m: usize, n: usize, fill: f64, max_weight: u32) -> Mat {
+    (0..m)
+        .map(|_| {
+            (0..n)
+                .map(|_| {
+                    if rng.random_bool(fill) {
+                        rng.random_range(1..=max_weight) as f64
+                    } else {
+                        0.0
+                    }
+                })
+                .collect()
+        })
+        .collect()
+}
+
+pub fn to_array(w: &Mat) -> ndarray::Array2<f64> {
+    let (m, n) = (w.len(), w[0].len());
+    ndarray::Array2::from_shape_fn((m, n), |(i, j)| w[i][j])
+}
+
+pub fn transpose(w: &Mat) -> Mat {
+    (0..w[0].len())
+        .map(|j| w.iter().map(|r| r[j]).collect())
+        .collect()
+}
+
+fn degree(r: &[f64]) -> usize {
+    r.iter().filter(|&&x| x > 0.0).count()
+}
+
+/// Stable decreasing-degree order of the rows (METHODS.md "Sorting").
+pub fn sorted_rows(w: &Mat) -> Vec<usize> {
+    let mut idx: Vec<usize> = (0..w.len()).collect();
+    idx.sort_by_key(|&i| std::cmp::Reverse(degree(&w[i])));
+    idx
+}
+
+/// METHODS.md §1-2, pair by pair: the sum over ordered row pairs (earlier =
+/// upper) of the pair values, in the order `rows` (a permutation).
+/// `weighted` switches the overlap count from NODF's to WNODF's.
+fn side_sum(w: &Mat, rows: &[usize], weighted: bool) -> f64 {
+    let mut s = 0.0;
+    for a in 0..rows.len() {
+        for b in a + 1..rows.len() {
+            let (u, l) = (&w[rows[a]], &w[rows[b]]);
+            let (du, dl) = (degree(u), degree(l));
+            if du > dl && dl > 0 {
+                let k = (0..u.len())
+                    .filter(|&j| {
+                        if weighted {
+                            l[j] > 0.0 && l[j] < u[j]
+                        } else {
+                            l[j] > 0.0 && u[j] > 0.0
+                        }
+                    })
+                    .count();
+                s += 100.0 * k as f64 / dl as f64;
+            }
+        }
+    }
+    s
+}
+
+/// Reference (total, rows part, columns part) for NODF (`weighted = false`)
+/// or WNODF (`true`), in the sorted (`sorted = true`) or given order.
+pub fn reference_nodf(w: &Mat, sorted: bool, weighted: bool) -> (f64, Option<f64>, Option<f64>) {
+    let t = transpose(w);
+    let (m, n) = (w.len(), t.len());
+    let rows: Vec<usize> = if sorted {
+        sorted_rows(w)
+    } else {
+        (0..m).collect()
+    };
+    let cols: Vec<usize> = if sorted {
+        sorted_rows(&t)
+    } else {
+        (0..n).collect()
+    };
+    let (sr, sc) = (side_sum(w, &rows, weighted), side_sum(&t, &cols, weighted));
+    let (pr, pc) = ((m * (m - 1) / 2) as f64, (n * (n - 1) / 2) as f64);
+    let part = |s: f64, p: f64| if p > 0.0 { Some(s / p) } else { None };
+    ((sr + sc) / (pr + pc), part(sr, pr), part(sc, pc))
+}
