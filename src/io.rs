@@ -843,7 +843,11 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
                 format!(
                     "this line has {} fields; expected at most 3: a row label, a column label and an optional weight{}",
                     rec.len(),
-                    decimal_comma_hint(fields.delim, rec.len() > 3)
+                    if rec.len() == 4 {
+                        decimal_comma_hint(fields.delim, true)
+                    } else {
+                        " (is the file in the matrix layout rather than an edge list?)"
+                    }
                 ),
             ));
         }

@@ -162,6 +162,14 @@ fn bad_edge_lines() {
         None,
         &["4 fields", "at most 3"],
     );
+    // A matrix file read as an edge list.
+    expect_parse_error(
+        "ragged.csv",
+        &EDGES,
+        1,
+        None,
+        &["9 fields", "matrix layout"],
+    );
 }
 
 #[test]
