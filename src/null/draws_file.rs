@@ -5,24 +5,25 @@
 //! # Format (version 1)
 //! Plain UTF-8 text, tab-separated. A file holds one or more *sections*, one
 //! per (network file, model) run, in the order the run made them. Each
-//! section is a header of `#` lines, a column line, then one line per draw:
+//! section is a header of `#` lines, a column line, then one line per draw
+//! (fields are separated by one tab, shown here as two spaces):
 //!
 //! ```text
-//! # nidus null draws	1
-//! # file	plants.csv
-//! # model	fixed-both
-//! # seed	42
-//! # draws	999
-//! # shard	2/4
-//! # stop_after	none
-//! # burn_in	1000
-//! # order	sorted
-//! # shape	200	200	4000
-//! # indices	nodf	nodf-rows
-//! # observed	23.408163265306122	21.5
-//! draw	nodf	nodf-rows
-//! 1	18.27	17.9
-//! 5	18.51	18.02
+//! # nidus null draws  1
+//! # file  plants.csv
+//! # model  fixed-both
+//! # seed  42
+//! # draws  999
+//! # shard  2/4
+//! # stop_after  none
+//! # burn_in  1000
+//! # order  sorted
+//! # shape  200  200  4000
+//! # indices  nodf  nodf-rows
+//! # observed  23.408163265306122  21.5
+//! draw  nodf  nodf-rows
+//! 1  18.27  17.9
+//! 5  18.51  18.02
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or

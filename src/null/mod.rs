@@ -57,7 +57,7 @@ mod weighted;
 
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
-pub use draws_file::{merge_runs, read_draws, SavedRun};
+pub use draws_file::{merge_runs, parse_draws, read_draws, SavedRun};
 pub use patefield::FixedTotals;
 pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
 pub use weighted::{ShuffleCells, ShuffleWeights};
@@ -356,16 +356,15 @@ mod tests {
         assert_eq!(splitmix64(0), 0xE220_A839_7B1D_CDAF);
     }
 
-    /// Pinned values: draw keys and the first output of draw 0 and draw 1 for
+    /// Pinned values: the draw key and the first output of draws 0 and 1 for
     /// seed 42. These are this crate's contract; a change here changes every
     /// published result.
     #[test]
     fn draw_rng_values_are_stable() {
-        assert_ne!(draw_key(42, 0), draw_key(42, 1));
-        assert_ne!(draw_key(42, 0), draw_key(43, 0));
-        let a = draw_rng(42, 0).next_u64();
-        let b = draw_rng(42, 0).next_u64();
-        assert_eq!(a, b);
+        // Values recorded from this code when the contract was fixed.
+        assert_eq!(draw_key(42, 0), 0x4d9b_3f1e_c9cf_6b1b);
+        assert_eq!(draw_rng(42, 0).next_u64(), 0xde5a_8312_db6d_cfc3);
+        assert_eq!(draw_rng(42, 1).next_u64(), 0xe24c_5880_61ba_a2ff);
         assert_eq!(draw_key(42, 0), splitmix64(42 ^ splitmix64(0)));
     }
 

@@ -86,9 +86,10 @@ impl FixedTotals {
             }
         }
         if total > MAX_TOTAL {
-            return Err(Error::InvalidArgument(format!(
+            return Err(Error::InvalidArgument(
                 "the fixed-totals model accepts a total count of at most 2^53; this network sums to more"
-            )));
+                    .into(),
+            ));
         }
         let len = (total as usize).min(TABLE) + 1;
         let mut ln_fact = Vec::with_capacity(len);
