@@ -16,7 +16,12 @@ fn main() -> Result<(), nidus::Error> {
         [1.0, 0.0, 0.0, 0.0], // a specialist: its one visitor is the commonest
     ];
     let plants = vec!["Gentiana".to_string(), "Silene".into(), "Primula".into()];
-    let insects = vec!["Bombus".to_string(), "Syrphus".into(), "Andrena".into(), "Zygaena".into()];
+    let insects = vec![
+        "Bombus".to_string(),
+        "Syrphus".into(),
+        "Andrena".into(),
+        "Zygaena".into(),
+    ];
     let net = Network::from_dense(visits, plants, insects)?;
 
     for order in [Order::Sorted, Order::Given] {
