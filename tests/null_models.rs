@@ -506,7 +506,9 @@ fn equiprobable_test_is_calibrated() {
 }
 
 /// The same check for every model on 1000 tests each (slow; run with
-/// `cargo test --release -- --ignored`). Prints the rates.
+/// `cargo test --release -- --ignored`). Prints the rates. Models that
+/// condition on the statistics they keep give exchangeable draws, so their
+/// level is at most 5 % (exactly 5 % without ties).
 #[test]
 #[ignore]
 fn every_model_is_calibrated() {
@@ -526,7 +528,12 @@ fn every_model_is_calibrated() {
     for (k, (model, index)) in cases.into_iter().enumerate() {
         let r = rejections(model, index, trials, 99, 1000 + k as u64);
         println!("{model} / {index}: {r} of {trials} rejected at 0.05 (band {lo}..={hi})");
-        if r < lo || r > hi {
+        // `proportional` does not condition on what it estimates (its
+        // probabilities come from the observed degrees, which a draw does not
+        // keep), so the observed network is not exchangeable with its draws
+        // and the test may be conservative: only the upper limit applies.
+        let too_few = r < lo && model != NullModel::Proportional;
+        if too_few || r > hi {
             failures.push(format!("{model}: {r}"));
         }
     }

@@ -14,6 +14,21 @@
 //! `step`; [`NullSampler`] wraps every model behind one value and makes the
 //! `k`-th draw of a seeded run with [`draw_rng`].
 //!
+//! # Adding a null model
+//! 1. A sampler file here: a type validated by `new(&Network) -> Result<Self>`
+//!    whose `sample(&self, rng)` cannot fail (or a chain type with `step`),
+//!    drawing randomness only through [`below`], [`unit`] and the other
+//!    helpers of this module; rustdoc with the model, cost, reference and
+//!    an example.
+//! 2. A [`NullModel`] variant with its name in [`NullModel::name`] and
+//!    [`NullModel::ALL`], [`NullModel::is_weighted`], and an arm in
+//!    [`NullSampler`].
+//! 3. Tests in `tests/null_models.rs`: what the model keeps, on hundreds of
+//!    seeded matrices, and a distribution check against an outside
+//!    reference; the model joins the calibration list there. Nothing else
+//!    changes: runs, shards, merge and the command line go through
+//!    [`NullSampler`].
+//!
 //! # Reproducibility contract
 //! Draw `k` (0-based) of a run with seed `s` uses
 //! `Xoshiro256PlusPlus::seed_from_u64(draw_key(s, k))` (see [`draw_key`])
@@ -299,7 +314,7 @@ pub fn draw_rng(seed: u64, k: u64) -> Xoshiro256PlusPlus {
 /// A uniform integer in `0..n` (`n > 0`) by Lemire's multiply-and-reject
 /// method (Lemire 2019, ACM TOMACS 29:3), from raw `u64` outputs.
 #[inline]
-pub(crate) fn below<R: Rng + ?Sized>(rng: &mut R, n: usize) -> usize {
+pub fn below<R: Rng + ?Sized>(rng: &mut R, n: usize) -> usize {
     debug_assert!(n > 0);
     let n = n as u64;
     let mut m = u128::from(rng.next_u64()) * u128::from(n);
@@ -314,7 +329,7 @@ pub(crate) fn below<R: Rng + ?Sized>(rng: &mut R, n: usize) -> usize {
 
 /// A uniform real in `[0, 1)` with 53 random bits.
 #[inline]
-pub(crate) fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
+pub fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
 }
 
