@@ -352,6 +352,47 @@ fn fixed_totals_cell_means() {
     }
 }
 
+/// Large counts (total above the 2^16 entries of the `ln k!` table, so
+/// Stirling's series is used): margins exact and cell means within 4.5
+/// standard errors of `r_i c_j / N`.
+#[test]
+fn fixed_totals_large_counts() {
+    let w: Mat = vec![
+        vec![40_000.0, 3_000.0, 12_000.0],
+        vec![500.0, 25_000.0, 7.0],
+    ];
+    let net = net_of(&w).unwrap();
+    let s = FixedTotals::new(&net).unwrap();
+    let (r, c) = (s.row_totals().to_vec(), s.col_totals().to_vec());
+    let n: u64 = r.iter().sum();
+    assert!(n > 1 << 16);
+    let draws = 400;
+    let mut sum = ndarray::Array2::<f64>::zeros((2, 3));
+    let mut sq = ndarray::Array2::<f64>::zeros((2, 3));
+    for k in 0..draws {
+        let t = s.sample(&mut draw_rng(17, k));
+        for i in 0..2 {
+            assert_eq!(t.row(i).sum(), r[i] as f64);
+        }
+        for j in 0..3 {
+            assert_eq!(t.column(j).sum(), c[j] as f64);
+        }
+        sum += &t;
+        sq += &t.mapv(|x| x * x);
+    }
+    for i in 0..2 {
+        for j in 0..3 {
+            let mean = sum[[i, j]] / draws as f64;
+            let se = ((sq[[i, j]] / draws as f64 - mean * mean) / draws as f64).sqrt();
+            let expect = (r[i] * c[j]) as f64 / n as f64;
+            assert!(
+                (mean - expect).abs() < 4.5 * se + 1e-9,
+                "cell ({i},{j}): {mean} vs {expect}"
+            );
+        }
+    }
+}
+
 /// On a 2 x 2 table the first cell follows the hypergeometric distribution
 /// `P(x) = C(c1, x) C(N - c1, r1 - x) / C(N, r1)` (the null distribution of
 /// Fisher's exact test; Fisher 1935, J. R. Stat. Soc. 98:39-82): chi-square

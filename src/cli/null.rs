@@ -298,6 +298,14 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                     source,
                 })?;
             }
+            if let (Some(s), Some((path, _))) = (args.shard, saved.as_ref()) {
+                eprintln!(
+                    "nidus: {shown} ({model}): shard {s}, {} of {} draws saved to {}",
+                    run.draw_ids.len(),
+                    run.draws,
+                    path.display()
+                );
+            }
             if args.shard.is_none() {
                 let text = render(args.format, &shown, &run)?;
                 if !emit(&mut out, &text) {
