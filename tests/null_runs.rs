@@ -118,6 +118,16 @@ fn sequential_stop_is_deterministic() {
     assert!(v[s.draws - 1] >= s.observed);
     assert_eq!(s.p_greater, 10.0 / s.draws as f64);
     assert!(a.draw_ids.len() < 2000);
+    // A saved stop run merges alone; cut before its stop, it is refused.
+    let mut text = Vec::new();
+    a.write_draws("n.csv", &mut text).unwrap();
+    let parts = parse_draws(std::str::from_utf8(&text).unwrap(), Path::new("p")).unwrap();
+    let merged = merge_runs(parts.clone()).unwrap();
+    assert_eq!(merged[0].run.summaries().unwrap(), a.summaries().unwrap());
+    let mut cut = parts;
+    cut[0].run.draw_ids.truncate(s.draws - 1);
+    cut[0].run.values.truncate(s.draws - 1);
+    assert!(merge_runs(cut).is_err());
     c.shard = Some(Shard::new(1, 2).unwrap());
     assert!(run_null(&net, &c).is_err(), "a stop cannot be sharded");
 }
@@ -382,4 +392,40 @@ fn sample_writes_null_networks() {
                 .collect())
         );
     }
+}
+
+/// `--stop-after` through the binary: reported as a sequential stop, with
+/// p = H / t (Besag & Clifford 1991), the same bytes for 1 and 2 threads.
+#[test]
+fn binary_sequential_stop() {
+    let (w, _) = test_network(11, 12, 12);
+    let f = scratch("stop.csv");
+    write_csv(&f, &w);
+    let f = f.to_str().unwrap();
+    let run = |t: &str| {
+        nidus(&[
+            "--threads",
+            t,
+            "null",
+            f,
+            "--model",
+            "fixed-rows",
+            "--draws",
+            "5000",
+            "--seed",
+            "3",
+            "--stop-after",
+            "5",
+            "--format",
+            "json",
+        ])
+    };
+    let (a, b) = (run("1"), run("2"));
+    assert!(a.status.success(), "{}", String::from_utf8_lossy(&a.stderr));
+    assert_eq!(a.stdout, b.stdout);
+    let line: serde_json::Value = serde_json::from_slice(&a.stdout).unwrap();
+    assert_eq!(line["stopped_early"], serde_json::Value::Bool(true));
+    let t = line["draws"].as_f64().unwrap();
+    assert!(t < 5000.0);
+    assert_eq!(line["p_greater"].as_f64().unwrap(), 5.0 / t);
 }

@@ -12,7 +12,7 @@ use crate::index::{evaluate, evaluate_bits, IndexKind, IndexOptions};
 use crate::metrics::Order;
 use crate::network::{Network, Weight};
 use crate::null::{NullDraw, NullModel, NullOptions, NullSampler};
-use crate::significance::{as_extreme, summarize, NullSummary};
+use crate::significance::{as_extreme, stopping_point, summarize, NullSummary};
 
 /// Draws evaluated together between progress reports and stop checks. A
 /// constant (not a function of the thread count) so that a sequential stop
@@ -191,16 +191,29 @@ pub struct NullRun {
 
 impl NullRun {
     /// True when the run holds every draw it needs: no shard, and draws
-    /// `0..R` (or, with a sequential stop, `0..t` for the draws taken).
+    /// `0..R`, or, with a sequential stop, draws `0..t` among which every
+    /// index has reached its stop.
     pub fn is_complete(&self) -> bool {
-        self.shard.is_none()
-            && self
+        if self.shard.is_some()
+            || self.draw_ids.len() > self.draws
+            || self
                 .draw_ids
                 .iter()
                 .enumerate()
-                .all(|(t, &k)| k == t as u64)
-            && (self.draw_ids.len() == self.draws
-                || (self.stop_after.is_some() && self.draw_ids.len() <= self.draws))
+                .any(|(t, &k)| k != t as u64)
+        {
+            return false;
+        }
+        if self.draw_ids.len() == self.draws {
+            return true;
+        }
+        // Fewer draws than requested: only a sequential stop that every
+        // index has reached explains it.
+        self.stop_after.is_some_and(|h| {
+            self.indices.iter().enumerate().all(|(i, k)| {
+                stopping_point(self.observed[i], &self.values_of(i), k.more_nested(), h).is_some()
+            })
+        })
     }
 
     /// The null values of index number `i`, in draw order.
