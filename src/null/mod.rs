@@ -17,7 +17,7 @@
 //! # Adding a null model
 //! 1. A sampler file here: a type validated by `new(&Network) -> Result<Self>`
 //!    whose `sample(&self, rng)` cannot fail (or a chain type with `step`),
-//!    drawing randomness only through [`below`], [`unit`] and the other
+//!    drawing randomness only through [`below`], [`unit()`] and the other
 //!    helpers of this module; rustdoc with the model, cost, reference and
 //!    an example.
 //! 2. A [`NullModel`] variant with its name in [`NullModel::name`] and
