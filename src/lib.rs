@@ -23,6 +23,8 @@ pub mod io;
 pub mod measure;
 pub mod metrics;
 pub mod network;
+pub mod null;
+pub mod significance;
 
 pub use bits::BitMatrix;
 pub use error::{Error, Result};

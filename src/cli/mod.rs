@@ -6,7 +6,10 @@ use std::process::ExitCode;
 use clap::{Parser, Subcommand, ValueEnum};
 
 mod measure;
+mod merge;
+mod null;
 mod report;
+mod sample;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
@@ -30,6 +33,12 @@ struct Cli {
 enum Command {
     /// Compute nestedness indices of one or more network files.
     Measure(measure::MeasureArgs),
+    /// Test indices of one or more files against null models.
+    Null(null::NullArgs),
+    /// Merge the saved draws of a split `null` run and print its result.
+    Merge(merge::MergeArgs),
+    /// Write null networks drawn from a file's network.
+    Sample(sample::SampleArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -62,6 +71,9 @@ pub fn main() -> ExitCode {
     }
     let result = match cli.command {
         Command::Measure(args) => measure::run(args),
+        Command::Null(args) => null::run(args),
+        Command::Merge(args) => merge::run(args),
+        Command::Sample(args) => sample::run(args),
     };
     match result {
         Ok(code) => code,

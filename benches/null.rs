@@ -1,0 +1,61 @@
+//! Null-model throughput: curveball (`fixed-both`) draws with and without
+//! NODF evaluated on each, and an independent-draw model for comparison.
+//!
+//! Sizes: 200 x 200 at fill 0.1 (the acceptance case of the null-model
+//! issue). Set `NIDUS_BENCH_LARGE=1` to add 1000 x 1000 at fill 0.05.
+//! Run: `cargo bench --bench null`.
+
+#![allow(missing_docs)] // criterion_group! generates an undocumented function
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
+use nidus::index::{evaluate_bits, IndexKind, IndexOptions};
+use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
+use nidus::Network;
+use rand::{Rng, SeedableRng};
+use rand_xoshiro::Xoshiro256PlusPlus;
+
+fn random_net(m: usize, n: usize, fill: f64, seed: u64) -> Network<f64> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let w = ndarray::Array2::from_shape_fn((m, n), |_| f64::from(u8::from(rng.random_bool(fill))));
+    Network::from_array(w).expect("a random network with links")
+}
+
+fn bench(c: &mut Criterion) {
+    let mut sizes = vec![(200usize, 200usize, 0.1f64)];
+    if std::env::var_os("NIDUS_BENCH_LARGE").is_some() {
+        sizes.push((1000, 1000, 0.05));
+    }
+    let mut g = c.benchmark_group("null");
+    g.throughput(Throughput::Elements(1));
+    for (m, n, fill) in sizes {
+        let net = random_net(m, n, fill, 1);
+        let label = format!("{m}x{n}@{fill}");
+        let opts = IndexOptions::default();
+        for model in [NullModel::FixedBoth, NullModel::Equiprobable] {
+            let s = NullSampler::new(&net, model, &NullOptions::default()).unwrap();
+            let mut k = 0u64;
+            g.bench_function(BenchmarkId::new(format!("{model}/draw"), &label), |b| {
+                b.iter(|| {
+                    k += 1;
+                    s.draw(7, k)
+                })
+            });
+            g.bench_function(
+                BenchmarkId::new(format!("{model}/draw+nodf"), &label),
+                |b| {
+                    b.iter(|| {
+                        k += 1;
+                        let NullDraw::Binary(d) = s.draw(7, k) else {
+                            unreachable!()
+                        };
+                        evaluate_bits(IndexKind::Nodf, &d, &opts).unwrap()
+                    })
+                },
+            );
+        }
+    }
+    g.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);

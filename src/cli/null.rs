@@ -1,0 +1,333 @@
+//! `nidus null`: every requested index of every file against every
+//! requested null model; and the output shared with `nidus merge`.
+
+use std::fs::File;
+use std::io::{self, IsTerminal, Write};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::Args;
+use indicatif::{ProgressBar, ProgressStyle};
+use nidus::index::IndexKind;
+use nidus::io::{read_network, EdgeHeader, Layout, ReadOptions};
+use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
+use nidus::significance::NullSummary;
+use nidus::{Error, Order};
+use serde_json::{Map, Value};
+
+use super::{parse_list, Format, List, EXIT_INPUT};
+
+#[derive(Args, Debug)]
+pub struct NullArgs {
+    /// Network files (see README for the two layouts).
+    #[arg(required = true, value_name = "FILE")]
+    files: Vec<PathBuf>,
+    /// Null models, comma-separated: equiprobable, proportional, fixed-rows, fixed-columns,
+    /// fixed-both, shuffle-cells, shuffle-weights, fixed-totals.
+    #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
+    model: List<NullModel>,
+    /// Indices to test, comma-separated (names as in `measure`; nodf-rows and nodf-cols too).
+    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
+    index: List<IndexKind>,
+    /// Number of null draws R.
+    #[arg(long, default_value_t = 999, value_name = "R")]
+    draws: usize,
+    /// Seed: draw k of a run depends on (seed, k) alone.
+    #[arg(long, required = true, value_name = "S")]
+    seed: u64,
+    /// Curveball trades per fixed-both draw (default 5 * max(rows, columns)).
+    #[arg(long, value_name = "B")]
+    burn_in: Option<usize>,
+    /// Compute only shard I of K (1-based) and save its draws (needs --save-draws).
+    #[arg(long, value_name = "I/K")]
+    shard: Option<Shard>,
+    /// Write every draw's values to PATH (for `nidus merge`).
+    #[arg(long, value_name = "PATH")]
+    save_draws: Option<PathBuf>,
+    /// Stop once H draws are at least as nested as the observed network
+    /// (sequential p-value of Besag & Clifford 1991).
+    #[arg(long, value_name = "H")]
+    stop_after: Option<usize>,
+    /// Row and column order for NODF and WNODF: sorted or given.
+    #[arg(long, default_value = "sorted", value_name = "sorted|given")]
+    order: Order,
+    /// File layout: matrix (a table with labels) or edges (one interaction per line).
+    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
+    layout: Layout,
+    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
+    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
+    edge_header: EdgeHeader,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    format: Format,
+}
+
+/// Writes to stdout; false when the reader has gone (a closed pipe) or on error.
+pub fn emit(out: &mut impl Write, text: &str) -> bool {
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => true,
+        Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
+        Err(e) => {
+            eprintln!("nidus: cannot write the output: {e}");
+            false
+        }
+    }
+}
+
+const CSV_COLUMNS: &[&str] = &[
+    "file",
+    "index",
+    "model",
+    "draws",
+    "seed",
+    "observed",
+    "mean",
+    "sd",
+    "z",
+    "p_greater",
+    "p_less",
+    "q025",
+    "q50",
+    "q975",
+    "more_nested",
+    "stopped_early",
+];
+
+/// The CSV header line, for formats that have one.
+pub fn header(format: Format) -> Option<String> {
+    (format == Format::Csv).then(|| CSV_COLUMNS.join(",") + "\n")
+}
+
+fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// The output for one run (one file and one model, every index).
+pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String> {
+    let summaries = run.summaries()?;
+    let mut s = String::new();
+    if format == Format::Text {
+        s += &format!(
+            "{file}\n  model {}, seed {}, {} draws requested{}{}\n",
+            run.model,
+            run.seed,
+            run.draws,
+            run.burn_in.map_or(String::new(), |b| format!(
+                ", {b} curveball trades per draw"
+            )),
+            run.stop_after.map_or(String::new(), |h| format!(
+                ", sequential stop after {h} draws at least as nested"
+            ))
+        );
+    }
+    for (kind, sum) in run.indices.iter().zip(&summaries) {
+        match format {
+            Format::Json => s += &(json(file, run, *kind, sum).to_string() + "\n"),
+            Format::Csv => s += &csv(file, run, *kind, sum),
+            Format::Text => s += &text(*kind, sum),
+        }
+    }
+    if format == Format::Text {
+        s.push('\n');
+    }
+    Ok(s)
+}
+
+fn json(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> Value {
+    let mut o = Map::new();
+    o.insert("file".into(), file.into());
+    o.insert("index".into(), kind.name().into());
+    o.insert("model".into(), run.model.name().into());
+    o.insert("draws".into(), x.draws.into());
+    o.insert("seed".into(), run.seed.into());
+    o.insert("observed".into(), x.observed.into());
+    o.insert("mean".into(), x.mean.into());
+    o.insert("sd".into(), x.sd.into());
+    o.insert("z".into(), x.z.map_or(Value::Null, Value::from));
+    o.insert("p_greater".into(), x.p_greater.into());
+    o.insert("p_less".into(), x.p_less.into());
+    o.insert("q025".into(), x.q025.into());
+    o.insert("q50".into(), x.q50.into());
+    o.insert("q975".into(), x.q975.into());
+    o.insert(
+        "more_nested".into(),
+        serde_json::to_value(x.more_nested).unwrap_or(Value::Null),
+    );
+    o.insert("stopped_early".into(), x.stopped_early.into());
+    Value::Object(o)
+}
+
+fn csv(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> String {
+    let dir = serde_json::to_value(x.more_nested)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_string))
+        .unwrap_or_default();
+    [
+        csv_field(file),
+        kind.name().to_string(),
+        run.model.name().to_string(),
+        x.draws.to_string(),
+        run.seed.to_string(),
+        x.observed.to_string(),
+        x.mean.to_string(),
+        x.sd.to_string(),
+        x.z.map_or(String::new(), |z| z.to_string()),
+        x.p_greater.to_string(),
+        x.p_less.to_string(),
+        x.q025.to_string(),
+        x.q50.to_string(),
+        x.q975.to_string(),
+        dir,
+        x.stopped_early.to_string(),
+    ]
+    .join(",")
+        + "\n"
+}
+
+fn text(kind: IndexKind, x: &NullSummary) -> String {
+    let dir = serde_json::to_value(x.more_nested)
+        .ok()
+        .and_then(|v| v.as_str().map(str::to_string))
+        .unwrap_or_default();
+    let z =
+        x.z.map_or("none (null sd 0)".to_string(), |z| format!("{z:.2}"));
+    let stop = if x.stopped_early {
+        format!("  (stopped early: sequential p-value, {} draws)", x.draws)
+    } else {
+        String::new()
+    };
+    format!(
+        "  {:<10} observed {:.4}  null mean {:.4} sd {:.4}  z {z}  p_greater {:.4}  p_less {:.4}  null 2.5/50/97.5% {:.4} {:.4} {:.4}  draws {}  more nested: {dir}{stop}\n",
+        kind.name(),
+        x.observed,
+        x.mean,
+        x.sd,
+        x.p_greater,
+        x.p_less,
+        x.q025,
+        x.q50,
+        x.q975,
+        x.draws
+    )
+}
+
+fn progress_bar(total: usize, label: &str) -> ProgressBar {
+    if !io::stderr().is_terminal() {
+        return ProgressBar::hidden();
+    }
+    let bar = ProgressBar::new(total as u64);
+    if let Ok(style) = ProgressStyle::with_template("{msg} [{bar:30}] {pos}/{len} draws ({eta})") {
+        bar.set_style(style.progress_chars("=> "));
+    }
+    bar.set_message(label.to_string());
+    bar
+}
+
+pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
+    if args.shard.is_some() && args.save_draws.is_none() {
+        return Err(Error::InvalidArgument(
+            "--shard computes part of the draws: give --save-draws PATH to keep them for `nidus merge`"
+                .into(),
+        ));
+    }
+    let read = ReadOptions {
+        layout: args.layout,
+        edge_header: args.edge_header,
+    };
+    let mut saved = match &args.save_draws {
+        Some(p) => Some((
+            p.clone(),
+            io::BufWriter::new(File::create(p).map_err(|source| Error::Write {
+                path: p.clone(),
+                source,
+            })?),
+        )),
+        None => None,
+    };
+    let stdout = io::stdout();
+    let mut out = stdout.lock();
+    if args.shard.is_none() {
+        if let Some(h) = header(args.format) {
+            if !emit(&mut out, &h) {
+                return Ok(ExitCode::SUCCESS);
+            }
+        }
+    }
+    let mut failed = 0usize;
+    'files: for file in &args.files {
+        let shown = file.display().to_string();
+        let net = match read_network(file, &read) {
+            Ok(n) => n,
+            Err(e) => {
+                failed += 1;
+                report(&shown, &e);
+                continue;
+            }
+        };
+        for &model in &args.model.0 {
+            let mut config = NullConfig::new(model, args.index.0.clone(), args.draws, args.seed);
+            config.shard = args.shard;
+            config.stop_after = args.stop_after;
+            config.order = args.order;
+            config.options = NullOptions {
+                burn_in: args.burn_in,
+            };
+            let share = match args.shard {
+                Some(s) => (0..args.draws as u64).filter(|&k| s.contains(k)).count(),
+                None => args.draws,
+            };
+            let bar = progress_bar(share, &format!("{shown} {model}"));
+            let result =
+                run_null_with_progress(&net, &config, &|done| bar.set_position(done as u64));
+            bar.finish_and_clear();
+            let run = match result {
+                Ok(r) => r,
+                Err(e) => {
+                    failed += 1;
+                    report(&format!("{shown} ({model})"), &e);
+                    continue;
+                }
+            };
+            if let Some((path, w)) = saved.as_mut() {
+                run.write_draws(&shown, w).map_err(|source| Error::Write {
+                    path: path.clone(),
+                    source,
+                })?;
+            }
+            if let (Some(s), Some((path, _))) = (args.shard, saved.as_ref()) {
+                eprintln!(
+                    "nidus: {shown} ({model}): shard {s}, {} of {} draws saved to {}",
+                    run.draw_ids.len(),
+                    run.draws,
+                    path.display()
+                );
+            }
+            if args.shard.is_none() {
+                let text = render(args.format, &shown, &run)?;
+                if !emit(&mut out, &text) {
+                    break 'files;
+                }
+            }
+        }
+    }
+    if let Some((path, mut w)) = saved {
+        w.flush().map_err(|source| Error::Write { path, source })?;
+    }
+    if failed > 0 {
+        return Ok(ExitCode::from(EXIT_INPUT));
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn report(what: &str, e: &Error) {
+    let msg = e.to_string();
+    if msg.starts_with(what) {
+        eprintln!("nidus: {msg}");
+    } else {
+        eprintln!("nidus: {what}: {msg}");
+    }
+}

@@ -1,0 +1,388 @@
+//! Seeded, parallel null-model tests: many draws of one model, several
+//! indices evaluated on each, summarised per index (METHODS.md §7).
+
+use std::fmt;
+use std::str::FromStr;
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use crate::error::{Error, Result};
+use crate::index::{evaluate, evaluate_bits, IndexKind, IndexOptions};
+use crate::metrics::Order;
+use crate::network::{Network, Weight};
+use crate::null::{NullDraw, NullModel, NullOptions, NullSampler};
+use crate::significance::{as_extreme, stopping_point, summarize, NullSummary};
+
+/// Draws evaluated together between progress reports and stop checks. A
+/// constant (not a function of the thread count) so that a sequential stop
+/// ends after the same draws on any machine.
+pub const BATCH: usize = 64;
+
+/// One part of a run split for a cluster: shard `index` of `count`
+/// (1-based) takes the draws `k` (0-based) with `k % count == index - 1`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub struct Shard {
+    index: usize,
+    count: usize,
+}
+
+impl Shard {
+    /// Shard `index` of `count`; errors unless `1 <= index <= count`.
+    pub fn new(index: usize, count: usize) -> Result<Self> {
+        if count == 0 || index == 0 || index > count {
+            return Err(Error::InvalidArgument(format!(
+                "shard {index}/{count}: the shard must be I/K with 1 <= I <= K"
+            )));
+        }
+        Ok(Shard { index, count })
+    }
+    /// The 1-based shard number `I`.
+    pub fn index(self) -> usize {
+        self.index
+    }
+    /// The number of shards `K`.
+    pub fn count(self) -> usize {
+        self.count
+    }
+    /// Does draw `k` belong to this shard?
+    pub fn contains(self, k: u64) -> bool {
+        k % self.count as u64 == (self.index - 1) as u64
+    }
+}
+
+impl fmt::Display for Shard {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}/{}", self.index, self.count)
+    }
+}
+
+impl FromStr for Shard {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        let bad = || Error::InvalidArgument(format!("bad shard '{s}': expected I/K, e.g. 3/10"));
+        let (i, k) = s.split_once('/').ok_or_else(bad)?;
+        let i = i.trim().parse().map_err(|_| bad())?;
+        let k = k.trim().parse().map_err(|_| bad())?;
+        Shard::new(i, k)
+    }
+}
+
+impl Serialize for Shard {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}
+
+/// What to run: one model, the indices to test, how many draws and how.
+#[derive(Clone, Debug)]
+pub struct NullConfig {
+    /// The null model.
+    pub model: NullModel,
+    /// Indices evaluated on the observed network and on every draw.
+    pub indices: Vec<IndexKind>,
+    /// Number of draws `R` (at least 2).
+    pub draws: usize,
+    /// The run's seed; draw `k` uses [`crate::null::draw_rng`]`(seed, k)`.
+    pub seed: u64,
+    /// Worker threads; `None` runs in the current rayon pool. Results do not
+    /// depend on it.
+    pub threads: Option<usize>,
+    /// Compute only this shard's draws (the summary needs all shards merged).
+    pub shard: Option<Shard>,
+    /// Sequential stop of Besag & Clifford after `H` extreme draws (at least
+    /// 2); not combinable with a shard.
+    pub stop_after: Option<usize>,
+    /// Model options (curveball burn-in).
+    pub options: NullOptions,
+    /// Row and column order for the indices that read one.
+    pub order: Order,
+}
+
+impl NullConfig {
+    /// A configuration with the defaults: no shard, no stop, current pool,
+    /// default burn-in, sorted order.
+    pub fn new(model: NullModel, indices: Vec<IndexKind>, draws: usize, seed: u64) -> Self {
+        NullConfig {
+            model,
+            indices,
+            draws,
+            seed,
+            threads: None,
+            shard: None,
+            stop_after: None,
+            options: NullOptions::default(),
+            order: Order::Sorted,
+        }
+    }
+
+    fn check(&self) -> Result<()> {
+        if self.indices.is_empty() {
+            return Err(Error::InvalidArgument("no index to test".into()));
+        }
+        if self.draws < 2 {
+            return Err(Error::InvalidArgument(format!(
+                "a null-model test needs at least 2 draws, got {}",
+                self.draws
+            )));
+        }
+        if let Some(h) = self.stop_after {
+            if h < 2 {
+                return Err(Error::InvalidArgument(format!(
+                    "the sequential stop needs H >= 2 extreme draws, got {h}"
+                )));
+            }
+            if self.shard.is_some() {
+                return Err(Error::InvalidArgument(
+                    "a sequential stop decides on the draws in order and cannot be split into shards"
+                        .into(),
+                ));
+            }
+        }
+        if self.threads == Some(0) {
+            return Err(Error::InvalidArgument("threads must be at least 1".into()));
+        }
+        if !self.model.is_weighted() {
+            if let Some(k) = self.indices.iter().find(|k| k.needs_weights()) {
+                return Err(Error::InvalidArgument(format!(
+                    "{k} reads weights but {} draws binary matrices; test it against shuffle-cells, shuffle-weights or fixed-totals",
+                    self.model
+                )));
+            }
+        }
+        Ok(())
+    }
+}
+
+fn ser_order<S: serde::Serializer>(o: &Order, s: S) -> std::result::Result<S::Ok, S::Error> {
+    s.serialize_str(o.name())
+}
+
+/// The draws of a run (or of one shard of it) and everything needed to
+/// summarise or merge them.
+#[derive(Clone, Debug, Serialize)]
+pub struct NullRun {
+    /// The model.
+    pub model: NullModel,
+    /// The indices, in the order of the values of each draw.
+    pub indices: Vec<IndexKind>,
+    /// Observed value of each index.
+    pub observed: Vec<f64>,
+    /// The seed.
+    pub seed: u64,
+    /// Draws requested (`R`, all shards together).
+    pub draws: usize,
+    /// The shard these draws belong to, if split.
+    pub shard: Option<Shard>,
+    /// The sequential-stop limit `H`, if any.
+    pub stop_after: Option<usize>,
+    /// Curveball trades per draw (`fixed-both` only).
+    pub burn_in: Option<usize>,
+    /// Order used by order-dependent indices.
+    #[serde(serialize_with = "ser_order")]
+    pub order: Order,
+    /// Rows, columns and links of the observed network.
+    pub shape: (usize, usize, usize),
+    /// Indices `k` of the draws computed, ascending.
+    pub draw_ids: Vec<u64>,
+    /// `values[t][i]`: index `i` on draw `draw_ids[t]`.
+    pub values: Vec<Vec<f64>>,
+}
+
+impl NullRun {
+    /// True when the run holds every draw it needs: no shard, and draws
+    /// `0..R`, or, with a sequential stop, draws `0..t` among which every
+    /// index has reached its stop.
+    pub fn is_complete(&self) -> bool {
+        if self.shard.is_some()
+            || self.draw_ids.len() > self.draws
+            || self
+                .draw_ids
+                .iter()
+                .enumerate()
+                .any(|(t, &k)| k != t as u64)
+        {
+            return false;
+        }
+        if self.draw_ids.len() == self.draws {
+            return true;
+        }
+        // Fewer draws than requested: only a sequential stop that every
+        // index has reached explains it.
+        self.stop_after.is_some_and(|h| {
+            self.indices.iter().enumerate().all(|(i, k)| {
+                stopping_point(self.observed[i], &self.values_of(i), k.more_nested(), h).is_some()
+            })
+        })
+    }
+
+    /// The null values of index number `i`, in draw order.
+    pub fn values_of(&self, i: usize) -> Vec<f64> {
+        self.values.iter().map(|v| v[i]).collect()
+    }
+
+    /// One summary per index, in the order of [`NullRun::indices`]. Errors
+    /// for a shard or an incomplete run (merge the shards first).
+    pub fn summaries(&self) -> Result<Vec<NullSummary>> {
+        if !self.is_complete() {
+            return Err(Error::InvalidArgument(format!(
+                "these are {} of the {} draws (shard {}); merge every shard before summarising",
+                self.draw_ids.len(),
+                self.draws,
+                self.shard.map_or("-".to_string(), |s| s.to_string())
+            )));
+        }
+        self.indices
+            .iter()
+            .enumerate()
+            .map(|(i, k)| {
+                summarize(
+                    self.observed[i],
+                    &self.values_of(i),
+                    k.more_nested(),
+                    self.stop_after,
+                )
+            })
+            .collect()
+    }
+}
+
+/// Runs a null-model test: see [`run_null_with_progress`].
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{index::IndexKind, null::{run_null, NullConfig, NullModel}, Network};
+/// let net = Network::from_array(array![
+///     [1, 1, 1, 1, 1], [1, 1, 1, 1, 0], [1, 1, 1, 0, 0], [1, 1, 0, 0, 0], [1, 0, 0, 0, 0]
+/// ]).unwrap();
+/// let config = NullConfig::new(NullModel::Equiprobable, vec![IndexKind::Nodf], 99, 1);
+/// let run = run_null(&net, &config).unwrap();
+/// let s = &run.summaries().unwrap()[0];
+/// assert_eq!(s.observed, 100.0);
+/// assert!(s.p_greater < 0.05); // a staircase is more nested than random fills
+/// ```
+pub fn run_null<T: Weight>(net: &Network<T>, config: &NullConfig) -> Result<NullRun> {
+    run_null_with_progress(net, config, &|_| {})
+}
+
+/// Runs a null-model test, calling `progress(done)` after each batch of
+/// draws with the number of this run's draws done so far.
+///
+/// Draw `k` is made with [`crate::null::draw_rng`]`(seed, k)` and every
+/// index is evaluated on it; draws are computed in parallel in batches of
+/// [`BATCH`] in draw order and stored in draw order, so the values (and the
+/// summaries) are identical for any thread count, and the draws of shards
+/// `1/K..K/K` together are exactly the draws of the unsplit run. With a
+/// sequential stop the run ends after the first batch by which every index
+/// has its `H` extreme draws; [`NullRun::summaries`] applies the rule in
+/// draw order.
+///
+/// Binary models are tested with the binary view (indices evaluated with
+/// [`evaluate_bits`] on the observed view and on the draws); weighted
+/// models with [`evaluate`] on the network and on each drawn table.
+///
+/// Cost: `R` draws plus `R` evaluations of each index; memory `O(R x
+/// indices)` values plus one matrix per thread.
+///
+/// Errors: bad configuration (fewer than 2 draws, a weighted index with a
+/// binary model, a stop with shards, ...), a model that does not fit the
+/// network, or an index that fails on the observed network or on a draw
+/// (the first failing draw in draw order).
+pub fn run_null_with_progress<T: Weight>(
+    net: &Network<T>,
+    config: &NullConfig,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<NullRun> {
+    config.check()?;
+    match config.threads {
+        Some(t) => rayon::ThreadPoolBuilder::new()
+            .num_threads(t)
+            .build()
+            .map_err(|e| Error::InvalidArgument(format!("cannot start {t} threads: {e}")))?
+            .install(|| run_inner(net, config, progress)),
+        None => run_inner(net, config, progress),
+    }
+}
+
+fn run_inner<T: Weight>(
+    net: &Network<T>,
+    config: &NullConfig,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<NullRun> {
+    let sampler = NullSampler::new(net, config.model, &config.options)?;
+    let opts = IndexOptions {
+        order: config.order,
+    };
+    let template = net.to_f64();
+    let observed: Vec<f64> = if config.model.is_weighted() {
+        config
+            .indices
+            .iter()
+            .map(|&k| evaluate(k, &template, &opts))
+            .collect::<Result<_>>()?
+    } else {
+        let b = net.binary()?;
+        config
+            .indices
+            .iter()
+            .map(|&k| evaluate_bits(k, &b, &opts))
+            .collect::<Result<_>>()?
+    };
+    let eval = |k: u64| -> Result<Vec<f64>> {
+        match sampler.draw(config.seed, k) {
+            NullDraw::Binary(b) => config
+                .indices
+                .iter()
+                .map(|&i| evaluate_bits(i, &b, &opts))
+                .collect(),
+            NullDraw::Weighted(w) => {
+                let drawn = template.with_weights(w)?;
+                config
+                    .indices
+                    .iter()
+                    .map(|&i| evaluate(i, &drawn, &opts))
+                    .collect()
+            }
+        }
+    };
+    let ids: Vec<u64> = (0..config.draws as u64)
+        .filter(|&k| config.shard.map_or(true, |s| s.contains(k)))
+        .collect();
+    let mut draw_ids = Vec::with_capacity(ids.len());
+    let mut values = Vec::with_capacity(ids.len());
+    let mut hits = vec![0usize; config.indices.len()];
+    for batch in ids.chunks(BATCH) {
+        let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
+        for (&k, v) in batch.iter().zip(got) {
+            let v = v?;
+            for (i, kind) in config.indices.iter().enumerate() {
+                if as_extreme(v[i], observed[i], kind.more_nested()) {
+                    hits[i] += 1;
+                }
+            }
+            draw_ids.push(k);
+            values.push(v);
+        }
+        progress(draw_ids.len());
+        if let Some(h) = config.stop_after {
+            if hits.iter().all(|&c| c >= h) {
+                break;
+            }
+        }
+    }
+    Ok(NullRun {
+        model: config.model,
+        indices: config.indices.clone(),
+        observed,
+        seed: config.seed,
+        draws: config.draws,
+        shard: config.shard,
+        stop_after: config.stop_after,
+        burn_in: sampler.burn_in(),
+        order: config.order,
+        shape: (net.nrows(), net.ncols(), net.links()),
+        draw_ids,
+        values,
+    })
+}
