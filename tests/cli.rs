@@ -174,3 +174,27 @@ fn thread_count_does_not_change_output() {
     assert!(a.status.success());
     assert_eq!(a.stdout, b.stdout);
 }
+
+/// A weighted index with a binary null model is refused before anything
+/// runs (a binary draw has WNODF 0 by definition), with exit status 2.
+#[test]
+fn weighted_index_needs_weighted_model() {
+    let p = scratch("weighted.csv");
+    write_matrix(&p, &vec![vec![3.0, 1.0], vec![1.0, 0.0]]);
+    let out = nidus(&[
+        "null",
+        p.to_str().unwrap(),
+        "--model",
+        "fixed-both,shuffle-weights",
+        "--index",
+        "nodf,wnodf",
+        "--draws",
+        "9",
+        "--seed",
+        "1",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(out.stdout.is_empty());
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(stderr.contains("wnodf") && stderr.contains("fixed-both"), "{stderr}");
+}

@@ -112,7 +112,7 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
     let mut s = String::new();
     if format == Format::Text {
         s += &format!(
-            "{file}\n  model {}, seed {}, {} draws requested{}{}\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<10} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
             run.model,
             run.seed,
             run.draws,
@@ -121,7 +121,16 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
             )),
             run.stop_after.map_or(String::new(), |h| format!(
                 ", sequential stop after {h} draws at least as nested"
-            ))
+            )),
+            "index",
+            "observed",
+            "null mean",
+            "null sd",
+            "z",
+            "p_greater",
+            "p_less",
+            "null 2.5% / 50% / 97.5%",
+            "draws"
         );
     }
     for (kind, sum) in run.indices.iter().zip(&summaries) {
@@ -193,24 +202,23 @@ fn text(kind: IndexKind, x: &NullSummary) -> String {
         .ok()
         .and_then(|v| v.as_str().map(str::to_string))
         .unwrap_or_default();
-    let z =
-        x.z.map_or("none (null sd 0)".to_string(), |z| format!("{z:.2}"));
+    let z = x.z.map_or("-".to_string(), |z| format!("{z:.2}"));
     let stop = if x.stopped_early {
-        format!("  (stopped early: sequential p-value, {} draws)", x.draws)
+        "  (stopped early: sequential p-value)"
     } else {
-        String::new()
+        ""
     };
+    let q = format!("{:.2} / {:.2} / {:.2}", x.q025, x.q50, x.q975);
     format!(
-        "  {:<10} observed {:.4}  null mean {:.4} sd {:.4}  z {z}  p_greater {:.4}  p_less {:.4}  null 2.5/50/97.5% {:.4} {:.4} {:.4}  draws {}  more nested: {dir}{stop}\n",
+        "  {:<10} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
         kind.name(),
         x.observed,
         x.mean,
         x.sd,
+        z,
         x.p_greater,
         x.p_less,
-        x.q025,
-        x.q50,
-        x.q975,
+        q,
         x.draws
     )
 }
@@ -233,6 +241,28 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             "--shard computes part of the draws: give --save-draws PATH to keep them for `nidus merge`"
                 .into(),
         ));
+    }
+    let binary_models: Vec<&str> = args
+        .model
+        .0
+        .iter()
+        .filter(|m| !m.is_weighted())
+        .map(|m| m.name())
+        .collect();
+    let weighted_indices: Vec<&str> = args
+        .index
+        .0
+        .iter()
+        .filter(|k| k.needs_weights())
+        .map(|k| k.name())
+        .collect();
+    if !binary_models.is_empty() && !weighted_indices.is_empty() {
+        return Err(Error::InvalidArgument(format!(
+            "{} read(s) weights, but {} draw(s) binary matrices: test weighted indices against \
+             shuffle-cells, shuffle-weights or fixed-totals in a separate call",
+            weighted_indices.join(", "),
+            binary_models.join(", ")
+        )));
     }
     let read = ReadOptions {
         layout: args.layout,
