@@ -196,5 +196,58 @@ fn weighted_index_needs_weighted_model() {
     assert_eq!(out.status.code(), Some(2));
     assert!(out.stdout.is_empty());
     let stderr = String::from_utf8_lossy(&out.stderr);
-    assert!(stderr.contains("wnodf") && stderr.contains("fixed-both"), "{stderr}");
+    assert!(
+        stderr.contains("wnodf") && stderr.contains("fixed-both"),
+        "{stderr}"
+    );
+}
+
+/// Every malformed fixture of tests/data/bad (see its README) fails through
+/// the binary with exit status 2 and one message naming the file and the
+/// line, for `measure` and `null` alike; never a panic.
+#[test]
+fn malformed_fixtures_exit_2_naming_the_place() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/bad");
+    let mut seen = 0;
+    for entry in std::fs::read_dir(&dir).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().and_then(|e| e.to_str()) != Some("csv") {
+            continue;
+        }
+        let name = path.file_name().unwrap().to_str().unwrap().to_string();
+        let layout = if name.starts_with("edges_") {
+            "edges"
+        } else {
+            "matrix"
+        };
+        let p = path.to_str().unwrap();
+        for args in [
+            vec!["measure", "--layout", layout, p],
+            vec![
+                "null",
+                "--layout",
+                layout,
+                p,
+                "--model",
+                "equiprobable",
+                "--draws",
+                "9",
+                "--seed",
+                "1",
+            ],
+        ] {
+            let out = nidus(&args);
+            let stderr = String::from_utf8_lossy(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{name}: {stderr}");
+            assert!(out.stdout.is_empty() || args[0] == "measure", "{name}");
+            assert!(!stderr.contains("panicked"), "{name}: {stderr}");
+            assert_eq!(stderr.lines().count(), 1, "{name}: one message: {stderr}");
+            assert!(stderr.contains(&name), "{name}: {stderr}");
+            if name != "all_zero.csv" {
+                assert!(stderr.contains("line "), "{name}: {stderr}");
+            }
+        }
+        seen += 1;
+    }
+    assert!(seen >= 20, "only {seen} fixtures");
 }
