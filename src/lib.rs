@@ -16,10 +16,12 @@
 //! ```
 #![warn(missing_docs)]
 
+pub mod assign;
 pub mod bits;
 pub mod error;
 pub mod metrics;
 pub mod network;
+pub mod special;
 
 pub use bits::BitMatrix;
 pub use error::{Error, Result};
