@@ -631,7 +631,7 @@ impl<'a> Packer<'a> {
                 *slot = at.iter().map(|&q| di[q]).sum();
             }
         }
-        let pos_of_item = work.solve(cost, k, k);
+        let pos_of_item = work.solve_from(cost, k, true);
         let mut order = vec![0usize; k];
         for (r, &i) in pos_of_item.iter().enumerate() {
             order[i] = r;
@@ -675,17 +675,20 @@ impl<'a> Packer<'a> {
     /// lower the total by more than `1e-12 (1 + total)`.
     fn descend(&self, mut rows: Vec<usize>, mut cols: Vec<usize>) -> Candidate {
         let mut total = self.table.total(self.b, &rows, &cols);
-        let (mut cost, mut work) = (Vec::new(), Workspace::default());
+        let mut cost = Vec::new();
+        // One workspace per side: each solve starts from the prices of the
+        // previous solve of the same side.
+        let (mut row_work, mut col_work) = (Workspace::default(), Workspace::default());
         for _ in 0..MAX_ROUNDS {
             let mut improved = false;
-            let new_rows = self.best_rows(&cols, &mut cost, &mut work);
+            let new_rows = self.best_rows(&cols, &mut cost, &mut row_work);
             let t = self.table.total(self.b, &new_rows, &cols);
             if t < total - 1e-12 * (1.0 + total) {
                 rows = new_rows;
                 total = t;
                 improved = true;
             }
-            let new_cols = self.best_cols(&rows, &mut cost, &mut work);
+            let new_cols = self.best_cols(&rows, &mut cost, &mut col_work);
             let t = self.table.total(self.b, &rows, &new_cols);
             if t < total - 1e-12 * (1.0 + total) {
                 cols = new_cols;
