@@ -1,6 +1,7 @@
 //! Temperature timings: the given and sorted values alone (table build plus
 //! two sums) and the packed order with the default search, on seeded random
 //! matrices. Larger sizes run when `NIDUS_BENCH_LARGE` is set.
+#![allow(missing_docs)] // criterion's macros generate undocumented functions
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use rand::{Rng, SeedableRng};

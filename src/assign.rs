@@ -264,6 +264,11 @@ impl Workspace {
     }
 
     /// Assigns free row `f` along a shortest augmenting path.
+    ///
+    /// The loops `for k in up..n` fix their range on entry while `up` grows
+    /// inside (columns moved into the to-scan block), as in Jonker &
+    /// Volgenant's own code.
+    #[allow(clippy::mut_range_bound)]
     fn augment(&mut self, c: &[f64], n: usize, f: usize) {
         let row_f = &c[f * n..(f + 1) * n];
         for j in 0..n {
