@@ -18,7 +18,11 @@ use crate::network::{Network, Weight};
 /// input order), discrepancy `= sum_i #{ j : b_ij = 1, pos(j) >= d_i }`.
 /// It is 0 exactly when every row fills its leftmost block, i.e. the matrix
 /// is perfectly nested (Ferrers). The value can depend on how ties among
-/// column degrees are broken; the convention here is input order.
+/// column degrees are broken; the convention here is input order. It is
+/// not symmetric under transposition: `[[1,0,1],[0,1,0]]` scores 2 (with
+/// the columns tied, row 1's one in column 3 and row 2's in column 2 lie
+/// outside their blocks) while its transpose scores 1; putting column 3
+/// before column 2 would also give 1.
 ///
 /// Works on the compressed rows, so sparse networks of any size are fine.
 /// Cost: `O(L + n log n)` time, `O(n)` memory beyond the compressed rows
@@ -156,6 +160,17 @@ mod tests {
         // one is at position 2 >= 1.
         let b = BitMatrix::from_fn(2, 3, |i, j| if i == 0 { j < 2 } else { j == 2 });
         assert_eq!(discrepancy_of_bits(&b), 1);
+    }
+
+    /// Worked by hand from the definition (METHODS.md §5): tie order and
+    /// transposition change the count.
+    #[test]
+    fn ties_and_transposition_by_hand() {
+        let b = BitMatrix::from_fn(2, 3, |i, j| [[1, 0, 1], [0, 1, 0]][i][j] == 1);
+        assert_eq!(discrepancy_of_bits(&b), 2);
+        assert_eq!(discrepancy_of_bits(&b.transpose()), 1);
+        // Columns reordered (0, 2, 1): the tie now falls the other way.
+        assert_eq!(discrepancy_of_bits(&b.permuted(&[0, 1], &[0, 2, 1])), 1);
     }
 
     /// A sparse network (stored compressed) gives the value of its dense twin.

@@ -13,7 +13,9 @@ pub mod wnodf;
 
 pub use discrepancy::{discrepancy, discrepancy_of_bits};
 pub use nodf::{nodf, nodf_bits, Nodf};
-pub use temperature::{temperature, temperature_of_bits, Temperature, TemperatureOptions};
+pub use temperature::{
+    isocline_area, isocline_p, temperature, temperature_of_bits, Temperature, TemperatureOptions,
+};
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.
