@@ -1,13 +1,16 @@
-//! Temperature timings: the given and sorted values alone (table build plus
-//! two sums) and the packed order with the default search, on seeded random
-//! matrices. Larger sizes run when `NIDUS_BENCH_LARGE` is set.
+//! Temperature timings on seeded random matrices: the given and sorted
+//! values with the cell table built afresh (`given_sorted`) and with the
+//! table reused as for null draws that keep the number of ones
+//! (`given_sorted_reused`), and the packed order with the default search. Larger sizes run when `NIDUS_BENCH_LARGE` is set.
 #![allow(missing_docs)] // criterion's macros generate undocumented functions
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
-use nidus::metrics::temperature::{temperature_of_bits, TemperatureOptions};
+use nidus::metrics::temperature::{
+    temperature_of_bits, temperature_with_table, TemperatureOptions, UnexpectednessTable,
+};
 use nidus::BitMatrix;
 
 fn random_bits(m: usize, n: usize, fill: f64, seed: u64) -> BitMatrix {
@@ -32,8 +35,16 @@ fn bench(c: &mut Criterion) {
             ..TemperatureOptions::default()
         };
         group.bench_with_input(BenchmarkId::new("given_sorted", &id), &b, |bch, b| {
-            bch.iter(|| temperature_of_bits(b, &plain).unwrap())
+            bch.iter(|| {
+                let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
+                temperature_with_table(b, &table, &plain).unwrap()
+            })
         });
+        group.bench_with_input(
+            BenchmarkId::new("given_sorted_reused", &id),
+            &b,
+            |bch, b| bch.iter(|| temperature_of_bits(b, &plain).unwrap()),
+        );
         let packed = TemperatureOptions::default();
         group.bench_with_input(BenchmarkId::new("packed_default", &id), &b, |bch, b| {
             bch.iter(|| temperature_of_bits(b, &packed).unwrap())

@@ -481,10 +481,41 @@ pub fn temperature<T: Weight>(net: &Network<T>, opts: &TemperatureOptions) -> Re
 
 /// [`temperature`] of a bit-packed binary matrix (null-model draws).
 ///
+/// The table of cell values depends only on the shape and the number of
+/// ones, so each thread keeps the last one it built (up to
+/// [`TABLE_CACHE_CELLS`] cells) and reuses it when the next matrix has the
+/// same shape and number of ones, as draws of a null model that keeps `L`
+/// do. The result is the same either way.
+///
 /// Errors: an empty shape or more than [`TEMPERATURE_CELL_LIMIT`] cells.
 pub fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<Temperature> {
-    let table = UnexpectednessTable::new(b.nrows(), b.ncols(), b.count_ones())?;
+    let key = (b.nrows(), b.ncols(), b.count_ones());
+    let cached = LAST_TABLE.with(|c| {
+        c.borrow()
+            .as_ref()
+            .filter(|t| (t.m, t.n, t.links) == key)
+            .cloned()
+    });
+    let table = match cached {
+        Some(t) => t,
+        None => {
+            let t = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
+            if key.0 * key.1 <= TABLE_CACHE_CELLS {
+                LAST_TABLE.with(|c| *c.borrow_mut() = Some(t.clone()));
+            }
+            t
+        }
+    };
     temperature_with_table(b, &table, opts)
+}
+
+/// Largest table (in cells, 2^20: 16 MiB) that [`temperature_of_bits`]
+/// keeps per thread for reuse.
+pub const TABLE_CACHE_CELLS: usize = 1 << 20;
+
+thread_local! {
+    static LAST_TABLE: std::cell::RefCell<Option<std::sync::Arc<UnexpectednessTable>>> =
+        const { std::cell::RefCell::new(None) };
 }
 
 /// [`temperature_of_bits`] with a table built beforehand (it must have been

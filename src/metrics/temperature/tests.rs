@@ -600,3 +600,29 @@ fn errors() {
         Err(Error::EmptyNetwork(_))
     ));
 }
+
+/// The per-thread table reuse gives the same values as a fresh table, for
+/// matrices that share shape and number of ones and for ones that do not.
+#[test]
+fn reused_table_gives_the_same_values() {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(31);
+    let a = random_cells(&mut rng, 9, 13, 0.4);
+    let ones: usize = a.iter().flatten().filter(|&&v| v).count();
+    // The same ones in other places: a shuffle of the cells.
+    let mut flat: Vec<bool> = a.iter().flatten().copied().collect();
+    flat.shuffle(&mut rng);
+    let b: Vec<Vec<bool>> = flat.chunks(13).map(|r| r.to_vec()).collect();
+    let mut c = b.clone();
+    c[0][0] = !c[0][0];
+    let opts = TemperatureOptions::default();
+    for m in [&a, &b, &c, &a] {
+        let bm = bits(m);
+        let cached = temperature_of_bits(&bm, &opts).unwrap();
+        let fresh = UnexpectednessTable::new(9, 13, bm.count_ones()).unwrap();
+        assert_eq!(cached, temperature_with_table(&bm, &fresh, &opts).unwrap());
+        let rows: Vec<usize> = (0..9).collect();
+        let cols: Vec<usize> = (0..13).collect();
+        assert!((cached.given - ref_t(m, &rows, &cols)).abs() < 1e-9);
+    }
+    assert_eq!(bits(&b).count_ones(), ones);
+}
