@@ -16,6 +16,7 @@
 //! ```
 #![warn(missing_docs)]
 
+pub mod assign;
 pub mod bits;
 pub mod error;
 pub mod index;
@@ -25,6 +26,7 @@ pub mod metrics;
 pub mod network;
 pub mod null;
 pub mod significance;
+pub mod special;
 
 pub use bits::BitMatrix;
 pub use error::{Error, Result};

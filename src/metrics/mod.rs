@@ -6,10 +6,16 @@ use std::str::FromStr;
 
 use crate::error::Error;
 
+pub mod discrepancy;
 pub mod nodf;
+pub mod temperature;
 pub mod wnodf;
 
+pub use discrepancy::{discrepancy, discrepancy_of_bits};
 pub use nodf::{nodf, nodf_bits, Nodf};
+pub use temperature::{
+    isocline_area, isocline_p, temperature, temperature_of_bits, Temperature, TemperatureOptions,
+};
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.

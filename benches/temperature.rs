@@ -1,0 +1,57 @@
+//! Temperature timings on seeded random matrices: the given and sorted
+//! values with the cell table built afresh (`given_sorted`) and with the
+//! table reused as for null draws that keep the number of ones
+//! (`given_sorted_reused`), and the packed order with the default search. Larger sizes run when `NIDUS_BENCH_LARGE` is set.
+#![allow(missing_docs)] // criterion's macros generate undocumented functions
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
+use rand::{Rng, SeedableRng};
+use rand_xoshiro::Xoshiro256PlusPlus;
+
+use nidus::metrics::temperature::{
+    temperature_of_bits, temperature_with_table, TemperatureOptions, UnexpectednessTable,
+};
+use nidus::BitMatrix;
+
+fn random_bits(m: usize, n: usize, fill: f64, seed: u64) -> BitMatrix {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    BitMatrix::from_fn(m, n, |_, _| rng.random_bool(fill))
+}
+
+fn bench(c: &mut Criterion) {
+    let mut sizes = vec![(200usize, 0.2f64)];
+    if std::env::var_os("NIDUS_BENCH_LARGE").is_some() {
+        sizes.push((500, 0.2));
+        sizes.push((1000, 0.1));
+    }
+    let mut group = c.benchmark_group("temperature");
+    group.sample_size(10);
+    for &(size, fill) in &sizes {
+        let b = random_bits(size, size, fill, 42);
+        group.throughput(Throughput::Elements((size * size) as u64));
+        let id = format!("{size}x{size}_fill{fill}");
+        let plain = TemperatureOptions {
+            pack: false,
+            ..TemperatureOptions::default()
+        };
+        group.bench_with_input(BenchmarkId::new("given_sorted", &id), &b, |bch, b| {
+            bch.iter(|| {
+                let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
+                temperature_with_table(b, &table, &plain).unwrap()
+            })
+        });
+        group.bench_with_input(
+            BenchmarkId::new("given_sorted_reused", &id),
+            &b,
+            |bch, b| bch.iter(|| temperature_of_bits(b, &plain).unwrap()),
+        );
+        let packed = TemperatureOptions::default();
+        group.bench_with_input(BenchmarkId::new("packed_default", &id), &b, |bch, b| {
+            bch.iter(|| temperature_of_bits(b, &packed).unwrap())
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);

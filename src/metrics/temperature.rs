@@ -1,0 +1,901 @@
+//! Matrix temperature (Atmar & Patterson 1993, Oecologia 96:373-382) with
+//! the isocline family of Rodriguez-Girones & Santamaria (2006, J. Biogeogr.
+//! 33:924-935), in the given, degree-sorted and packed orders
+//! (METHODS.md §4).
+//!
+//! # Geometry
+//! The `m x n` matrix sits in the unit square, rows top to bottom, columns
+//! left to right; cell `(i, j)` (0-based here) has centre
+//! `x = (j + 1/2)/n`, `y = (i + 1/2)/m`. For `p > 0` the isocline is
+//! `(1-x)^p + (1-y)^p = 1`; the presence region, the top-left side
+//! `(1-x)^p + (1-y)^p > 1`, has area `1 - Gamma(1+1/p)^2 / Gamma(1+2/p)`,
+//! and `p` is chosen so that this area equals the fill `phi = L/(m n)`
+//! ([`isocline_p`]).
+//!
+//! Through each cell centre runs the line `(x + t, y + t)` parallel to the
+//! main diagonal; its part inside the square has parameter length
+//! `D = 1 - |x - y|` and it crosses the isocline at exactly one `t*`
+//! (`t* > 0` inside the presence region). A presence outside the region or
+//! an absence inside it is unexpected and scores `u = (t*/D)^2`; other
+//! cells score 0. Then `T = 100 sum(u) / (m n U_max)` with
+//! `U_max = 0.04145` ([`U_MAX`]); `T` can exceed 100, and a matrix of fill 0
+//! or 1 has `T = 0` (convention).
+//!
+//! # Packing
+//! The packed order is the pair of row and column orders that minimises
+//! `T`. For a fixed column order, placing data row `r` at position `i` costs
+//! `sum_j u(i, j | cell)`, which depends on `r` only through its own cells,
+//! so the best row order is a linear assignment problem ([`crate::assign`]);
+//! the same holds for columns given the rows. See [`TemperatureOptions`] for
+//! the search built on that fact, exact on small matrices.
+
+use rand::seq::SliceRandom;
+use rand::SeedableRng;
+use rand_xoshiro::Xoshiro256PlusPlus;
+use rayon::prelude::*;
+
+use crate::assign::Workspace;
+use crate::bits::BitMatrix;
+use crate::error::{Error, Result};
+use crate::metrics::degree_order;
+use crate::network::{Network, Weight};
+use crate::special::ln_gamma;
+
+/// The normalising constant of temperature: `T = 100 U / U_max` with `U` the
+/// mean unexpectedness per cell (Atmar & Patterson 1993). With it a large
+/// uniformly random matrix at fill 1/2 scores close to 100 (its mean `u`
+/// tends to `1/24 = 0.041667` under this geometry; see the tests).
+pub const U_MAX: f64 = 0.04145;
+
+/// Largest number of cells `m n` for which temperature is computed
+/// (2^24, e.g. 4096 x 4096). The per-cell table takes two `f64` per cell
+/// (256 MiB at the limit) and each cell needs one root solve: measured
+/// with two threads in release builds (`examples/temperature_timing.rs`,
+/// random square matrices), the given and sorted values took 15 ms at
+/// 200 x 200, 1.8 s at 2000 x 2000 and 16 s at 4096 x 4096. Packing costs
+/// far more at large sizes (see [`TemperatureOptions`]). Larger networks get
+/// [`Error::TooLarge`].
+pub const TEMPERATURE_CELL_LIMIT: usize = 1 << 24;
+
+/// The exact packing enumerates every order of the smaller side `k =
+/// min(m, n)` when `k <= 8` and `k! (K^3 + K L + m n) <= EXACT_WORK_LIMIT`,
+/// with `K = max(m, n)`: roughly 0.1 s of work.
+pub const EXACT_WORK_LIMIT: f64 = 5e7;
+
+/// Rounds of the alternating search from one start are capped here (each
+/// accepted round lowers `T`, so in practice it stops long before).
+const MAX_ROUNDS: usize = 1000;
+
+/// How [`temperature`] searches for the packed order.
+///
+/// * `pack`: compute the packed order at all (the slow part; `false` gives
+///   the given and sorted values only).
+/// * `restarts`: random starts of the alternating search besides the
+///   degree-sorted one (default 4). Cost grows linearly with it; 0 is the
+///   cheapest packing. Ignored when the exact search applies.
+/// * `seed`: start `k` (1-based) is a uniformly random pair of row and
+///   column orders drawn from a Xoshiro256PlusPlus generator seeded from
+///   `(seed, k)` alone, so results do not depend on the number of threads.
+///
+/// The search. Exact, when the smaller side is small (see
+/// [`EXACT_WORK_LIMIT`]): every order of the smaller side is tried, each
+/// with the best order of the other side found by one exact assignment; this
+/// visits the optimum, so the packed `T` is the global minimum over all row
+/// and column orders. Otherwise, alternating: from each start, solve the row
+/// assignment for the current columns, then the column assignment for the
+/// current rows, and repeat until a whole round lowers `T` by no more than
+/// `1e-12 (1 + U)`; keep the best start. This reaches a point that no
+/// single-side reordering improves, not necessarily the global minimum. The
+/// degree-sorted orders are always a candidate, so packed `T <=` sorted `T`.
+/// Ties in `T` keep the first found (sorted start, then restarts in order).
+///
+/// Cost of the alternating search: each step builds an `m x m` (or
+/// `n x n`) cost table in `O(m L)` and solves it by Jonker-Volgenant
+/// shortest augmenting paths ([`crate::assign`]), `O(m^3)` at worst but
+/// much less in practice because each solve starts from the prices of the
+/// previous one; a start takes a few to a few tens of rounds. Measured in
+/// release builds with two threads (criterion bench `benches/temperature.rs`
+/// and `examples/temperature_timing.rs`, seeded random matrices): 200 x 200
+/// at fill 0.2 with the default 5 starts, 0.3-0.6 s; 500 x 500 at fill 0.2
+/// with one start (`restarts = 0`), about 1.2 s; 1000 x 1000 at fill 0.1
+/// with one start, about 30 s. For matrices beyond a few hundred rows use
+/// `restarts = 0`, or `pack = false`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+pub struct TemperatureOptions {
+    /// Search for the packed order.
+    pub pack: bool,
+    /// Random starts besides the degree-sorted one.
+    pub restarts: usize,
+    /// Seed of the random starts.
+    pub seed: u64,
+}
+
+impl Default for TemperatureOptions {
+    /// `pack: true, restarts: 4, seed: 1`.
+    fn default() -> Self {
+        TemperatureOptions {
+            pack: true,
+            restarts: 4,
+            seed: 1,
+        }
+    }
+}
+
+/// Temperature of one matrix in three orders.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct Temperature {
+    /// `T` with rows and columns in input order.
+    pub given: f64,
+    /// `T` with rows and columns by decreasing degree (ties in input order).
+    pub sorted: f64,
+    /// The smallest `T` found by packing (`None` when not asked for).
+    pub packed: Option<f64>,
+    /// The isocline exponent `p` for this fill (`+inf` at fill 0, 0 at fill 1).
+    pub isocline_p: f64,
+    /// Input row index at each position: the packed order when packed,
+    /// else the sorted order.
+    pub row_order: Vec<usize>,
+    /// Input column index at each position, likewise.
+    pub col_order: Vec<usize>,
+}
+
+/// Area of the presence region `(1-x)^p + (1-y)^p > 1` of the unit square:
+/// `1 - Gamma(1+1/p)^2 / Gamma(1+2/p)` (the complement of the area of the
+/// superellipse quadrant `a^p + b^p <= 1`).
+///
+/// Decreasing in `p`: 1 as `p -> 0`, 1/2 at `p = 1`, `1 - pi/4` at `p = 2`,
+/// about `pi^2 / (6 p^2)` for large `p`. Evaluated as
+/// `-expm1(2 ln Gamma(1+e) - ln Gamma(1+2e))` with `e = 1/p`, by a power
+/// series in `e` when `e <= 0.02`, so small areas keep full relative
+/// precision. Returns NaN for `p <= 0` or NaN.
+///
+/// Cost: `O(1)`.
+///
+/// # Example
+/// ```
+/// use nidus::metrics::temperature::isocline_area;
+/// assert!((isocline_area(1.0) - 0.5).abs() < 1e-15);
+/// assert!((isocline_area(0.5) - 5.0 / 6.0).abs() < 1e-14);
+/// ```
+pub fn isocline_area(p: f64) -> f64 {
+    if p.is_nan() || p <= 0.0 {
+        return f64::NAN;
+    }
+    if p.is_infinite() {
+        return 0.0;
+    }
+    -log_quadrant(1.0 / p).exp_m1()
+}
+
+/// `ln(Gamma(1+e)^2 / Gamma(1+2e))`, the log of the quadrant area for
+/// exponent `p = 1/e`.
+fn log_quadrant(e: f64) -> f64 {
+    if e > 0.02 {
+        return 2.0 * ln_gamma(1.0 + e) - ln_gamma(1.0 + 2.0 * e);
+    }
+    // ln Gamma(1+z) = -gamma z + sum_{k>=2} (-1)^k zeta(k) z^k / k
+    // (Abramowitz & Stegun 1964, 6.1.33), so the Euler-gamma terms cancel:
+    // 2 lnG(1+e) - lnG(1+2e) = sum_{k>=2} (-1)^k zeta(k) (2 - 2^k) e^k / k.
+    let mut sum = 0.0;
+    let mut ek = e * e;
+    for k in 2..=24usize {
+        let sign = if k % 2 == 0 { 1.0 } else { -1.0 };
+        sum += sign * zeta(k) * (2.0 - (k as f64).exp2()) * ek / k as f64;
+        ek *= e;
+    }
+    sum
+}
+
+/// Riemann zeta at integers `k >= 2`: exact or tabled values below 10, a
+/// direct sum above (its tail past 40 is below `1e-16` there).
+fn zeta(k: usize) -> f64 {
+    use std::f64::consts::PI;
+    match k {
+        2 => PI * PI / 6.0,
+        3 => ZETA_ODD[0],
+        4 => PI.powi(4) / 90.0,
+        5 => ZETA_ODD[1],
+        6 => PI.powi(6) / 945.0,
+        7 => ZETA_ODD[2],
+        8 => PI.powi(8) / 9450.0,
+        9 => ZETA_ODD[3],
+        _ => (1..=40).rev().map(|n| (n as f64).powi(-(k as i32))).sum(),
+    }
+}
+
+/// `zeta(3), zeta(5), zeta(7), zeta(9)` (from memory; checked against
+/// direct summation in the tests).
+#[allow(clippy::excessive_precision)]
+const ZETA_ODD: [f64; 4] = [
+    1.2020569031595942,
+    1.0369277551433699,
+    1.0083492773819228,
+    1.0020083928260822,
+];
+
+/// The isocline exponent `p` whose presence area equals `fill`
+/// (see [`isocline_area`]): the unique solution of
+/// `Gamma(1+1/p)^2 / Gamma(1+2/p) = 1 - fill`, found by bisection on
+/// `ln(1/p)` to full double precision (about 120 evaluations).
+///
+/// `fill = 1/2` gives `p = 1` (the anti-diagonal). Limits: `fill <= 0`
+/// gives `+inf`, `fill >= 1` gives 0; NaN gives NaN.
+///
+/// Cost: `O(1)` (a few hundred log-gamma evaluations).
+///
+/// # Example
+/// ```
+/// use nidus::metrics::temperature::isocline_p;
+/// assert!((isocline_p(0.5) - 1.0).abs() < 1e-12);
+/// assert!((isocline_p(1.0 - std::f64::consts::PI / 4.0) - 2.0).abs() < 1e-10);
+/// ```
+pub fn isocline_p(fill: f64) -> f64 {
+    if fill.is_nan() {
+        return f64::NAN;
+    }
+    if fill <= 0.0 {
+        return f64::INFINITY;
+    }
+    if fill >= 1.0 {
+        return 0.0;
+    }
+    // log_quadrant(e) is decreasing in e = 1/p; solve log_quadrant(e) = ln(1 - fill).
+    let target = (-fill).ln_1p();
+    let (mut lo, mut hi) = (-60.0f64, 60.0f64); // bounds on ln e
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if log_quadrant(mid.exp()) > target {
+            lo = mid; // area too small: e must grow
+        } else {
+            hi = mid;
+        }
+    }
+    (-0.5 * (lo + hi)).exp()
+}
+
+/// The parameter `t*` where the line `(x + t, y + t)` crosses the isocline
+/// of exponent `p`, written with `a = 1 - x`, `b = 1 - y`: the root of
+/// `h(t) = (a-t)^p + (b-t)^p - 1` on `[max(a,b) - 1, min(a,b)]`, where `h`
+/// falls from `>= 0` to `<= 0`. Newton steps kept inside a shrinking
+/// bracket, with bisection when a step leaves it.
+fn crossing(a: f64, b: f64, p: f64) -> f64 {
+    let (mut lo, mut hi) = (a.max(b) - 1.0, a.min(b));
+    if p == 1.0 {
+        return (a + b - 1.0) * 0.5;
+    }
+    let mut t = 0.5 * (lo + hi);
+    for _ in 0..200 {
+        let (ea, eb) = ((a - t).max(0.0), (b - t).max(0.0));
+        let (pa, pb) = (ea.powf(p), eb.powf(p));
+        let h = pa + pb - 1.0;
+        if h == 0.0 {
+            return t;
+        }
+        if h > 0.0 {
+            lo = t;
+        } else {
+            hi = t;
+        }
+        if hi - lo <= 1e-16 {
+            break;
+        }
+        let slope =
+            -p * (if ea > 0.0 { pa / ea } else { 0.0 } + if eb > 0.0 { pb / eb } else { 0.0 });
+        let next = t - h / slope;
+        let next = if next.is_finite() && next > lo && next < hi {
+            next
+        } else {
+            0.5 * (lo + hi)
+        };
+        if (next - t).abs() <= 1e-17 {
+            t = next;
+            break;
+        }
+        t = next;
+    }
+    t
+}
+
+/// The unexpectedness every cell of an `m x n` matrix with `L` ones would
+/// get, for a presence and for an absence, at every position: the table
+/// behind [`temperature`]. Reusable for all matrices of the same shape and
+/// number of ones (null models that keep `L` build it once).
+///
+/// Cost: `O(m n)` root solves and `16 m n` bytes.
+#[derive(Clone, Debug)]
+pub struct UnexpectednessTable {
+    m: usize,
+    n: usize,
+    links: usize,
+    p: f64,
+    /// `u` of a presence at position `(i, j)`, row-major.
+    present: Vec<f64>,
+    /// `u` of an absence at position `(i, j)`, row-major.
+    absent: Vec<f64>,
+}
+
+impl UnexpectednessTable {
+    /// Builds the table for `m x n` matrices with `links` ones.
+    ///
+    /// Errors: an empty shape ([`Error::EmptyNetwork`]), more than
+    /// [`TEMPERATURE_CELL_LIMIT`] cells ([`Error::TooLarge`]), `links > m n`.
+    pub fn new(m: usize, n: usize, links: usize) -> Result<Self> {
+        check_size(m, n)?;
+        if links > m * n {
+            return Err(Error::InvalidArgument(format!(
+                "{links} ones do not fit in a {m} x {n} matrix"
+            )));
+        }
+        let cells = m * n;
+        let p = isocline_p(links as f64 / cells as f64);
+        let mut present = vec![0.0; cells];
+        let mut absent = vec![0.0; cells];
+        if links > 0 && links < cells {
+            present
+                .par_chunks_mut(n)
+                .zip(absent.par_chunks_mut(n))
+                .enumerate()
+                .for_each(|(i, (pres, abs))| {
+                    let y = (i as f64 + 0.5) / m as f64;
+                    for j in 0..n {
+                        let x = (j as f64 + 0.5) / n as f64;
+                        let (a, b) = (1.0 - x, 1.0 - y);
+                        let level = a.powf(p) + b.powf(p);
+                        if level == 1.0 {
+                            continue; // on the isocline: nothing is unexpected
+                        }
+                        let r = crossing(a, b, p) / (1.0 - (x - y).abs());
+                        if level > 1.0 {
+                            abs[j] = r * r;
+                        } else {
+                            pres[j] = r * r;
+                        }
+                    }
+                });
+        }
+        Ok(UnexpectednessTable {
+            m,
+            n,
+            links,
+            p,
+            present,
+            absent,
+        })
+    }
+
+    /// Rows `m`.
+    pub fn nrows(&self) -> usize {
+        self.m
+    }
+    /// Columns `n`.
+    pub fn ncols(&self) -> usize {
+        self.n
+    }
+    /// Number of ones `L` the table was built for.
+    pub fn links(&self) -> usize {
+        self.links
+    }
+    /// The isocline exponent `p`.
+    pub fn p(&self) -> f64 {
+        self.p
+    }
+    /// `u` of a presence at position `(i, j)` (0 inside the presence region).
+    pub fn if_present(&self, i: usize, j: usize) -> f64 {
+        self.present[i * self.n + j]
+    }
+    /// `u` of an absence at position `(i, j)` (0 outside the presence region).
+    pub fn if_absent(&self, i: usize, j: usize) -> f64 {
+        self.absent[i * self.n + j]
+    }
+
+    /// `sum(u)` of `b` with position `(i, j)` holding cell
+    /// `(rows[i], cols[j])`, summed row by row. Cost `O(m n)`.
+    pub fn total(&self, b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
+        let n = self.n;
+        let mut total = 0.0;
+        for (i, &r) in rows.iter().enumerate() {
+            let (pres, abs) = (&self.present[i * n..][..n], &self.absent[i * n..][..n]);
+            let row = b.row(r);
+            let mut s = 0.0;
+            for (j, &c) in cols.iter().enumerate() {
+                s += if (row[c / 64] >> (c % 64)) & 1 == 1 {
+                    pres[j]
+                } else {
+                    abs[j]
+                };
+            }
+            total += s;
+        }
+        total
+    }
+
+    /// `T = 100 sum(u) / (m n U_max)` for the given orders (see
+    /// [`UnexpectednessTable::total`]).
+    pub fn temperature(&self, b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
+        self.to_t(self.total(b, rows, cols))
+    }
+
+    fn to_t(&self, total: f64) -> f64 {
+        100.0 * total / (self.m as f64 * self.n as f64 * U_MAX)
+    }
+}
+
+fn check_size(m: usize, n: usize) -> Result<()> {
+    if m == 0 {
+        return Err(Error::EmptyNetwork("it has no rows"));
+    }
+    if n == 0 {
+        return Err(Error::EmptyNetwork("it has no columns"));
+    }
+    let cells = m as u128 * n as u128;
+    if cells > TEMPERATURE_CELL_LIMIT as u128 {
+        return Err(Error::TooLarge {
+            what: "temperature (two f64 per cell)",
+            rows: m,
+            cols: n,
+            bytes: cells * 16,
+        });
+    }
+    Ok(())
+}
+
+/// Temperature of a network's binary view in the given, sorted and
+/// (optionally) packed orders.
+///
+/// `T = 100 sum(u_ij) / (m n U_max)`, `u_ij = (t*/D)^2` for unexpected cells
+/// (see the [module documentation](self) for the geometry). Fill 0 or 1
+/// gives `T = 0`. The packed search is described at [`TemperatureOptions`].
+///
+/// Cost: `O(m n)` root solves for the table (parallel over rows), `O(m n)`
+/// per order evaluated, plus the packing; memory `16 m n` bytes. Networks
+/// above [`TEMPERATURE_CELL_LIMIT`] cells give [`Error::TooLarge`].
+///
+/// References: Atmar & Patterson (1993), Oecologia 96:373-382;
+/// Rodriguez-Girones & Santamaria (2006), J. Biogeogr. 33:924-935.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::metrics::temperature::{temperature, TemperatureOptions};
+/// use nidus::Network;
+/// // A staircase is perfectly nested: T = 0 in the sorted order.
+/// let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
+/// let t = temperature(&net, &TemperatureOptions::default()).unwrap();
+/// assert_eq!(t.sorted, 0.0);
+/// assert_eq!(t.packed, Some(0.0));
+/// // Shuffled, the given order is hot, but sorting and packing restore it.
+/// let hot = Network::from_array(array![[1, 0, 0], [1, 1, 1], [1, 1, 0]]).unwrap();
+/// let t = temperature(&hot, &TemperatureOptions::default()).unwrap();
+/// assert!(t.given > 0.0);
+/// assert_eq!(t.packed, Some(0.0));
+/// assert_eq!(t.row_order, vec![1, 2, 0]);
+/// ```
+pub fn temperature<T: Weight>(net: &Network<T>, opts: &TemperatureOptions) -> Result<Temperature> {
+    check_size(net.nrows(), net.ncols())?;
+    let b = net.binary()?;
+    temperature_of_bits(&b, opts)
+}
+
+/// [`temperature`] of a bit-packed binary matrix (null-model draws).
+///
+/// The table of cell values depends only on the shape and the number of
+/// ones, so each thread keeps the last one it built (up to
+/// [`TABLE_CACHE_CELLS`] cells) and reuses it when the next matrix has the
+/// same shape and number of ones, as draws of a null model that keeps `L`
+/// do. The result is the same either way.
+///
+/// Errors: an empty shape or more than [`TEMPERATURE_CELL_LIMIT`] cells.
+pub fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<Temperature> {
+    let key = (b.nrows(), b.ncols(), b.count_ones());
+    let cached = LAST_TABLE.with(|c| {
+        c.borrow()
+            .as_ref()
+            .filter(|t| (t.m, t.n, t.links) == key)
+            .cloned()
+    });
+    let table = match cached {
+        Some(t) => t,
+        None => {
+            let t = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
+            if key.0 * key.1 <= TABLE_CACHE_CELLS {
+                LAST_TABLE.with(|c| *c.borrow_mut() = Some(t.clone()));
+            }
+            t
+        }
+    };
+    temperature_with_table(b, &table, opts)
+}
+
+/// Largest table (in cells, 2^20: 16 MiB) that [`temperature_of_bits`]
+/// keeps per thread for reuse.
+pub const TABLE_CACHE_CELLS: usize = 1 << 20;
+
+thread_local! {
+    static LAST_TABLE: std::cell::RefCell<Option<std::sync::Arc<UnexpectednessTable>>> =
+        const { std::cell::RefCell::new(None) };
+}
+
+/// [`temperature_of_bits`] with a table built beforehand (it must have been
+/// built for the same shape and number of ones, else
+/// [`Error::InvalidArgument`]).
+pub fn temperature_with_table(
+    b: &BitMatrix,
+    table: &UnexpectednessTable,
+    opts: &TemperatureOptions,
+) -> Result<Temperature> {
+    let (m, n) = (b.nrows(), b.ncols());
+    let links = b.count_ones();
+    if (m, n, links) != (table.m, table.n, table.links) {
+        return Err(Error::InvalidArgument(format!(
+            "the temperature table was built for {} x {} with {} ones, not {m} x {n} with {links}",
+            table.m, table.n, table.links
+        )));
+    }
+    let given_rows: Vec<usize> = (0..m).collect();
+    let given_cols: Vec<usize> = (0..n).collect();
+    let sorted_rows = degree_order(&b.row_degrees());
+    let sorted_cols = degree_order(&b.col_degrees());
+    let given = table.temperature(b, &given_rows, &given_cols);
+    let sorted_total = table.total(b, &sorted_rows, &sorted_cols);
+    let sorted = table.to_t(sorted_total);
+    let (packed, row_order, col_order) = if opts.pack {
+        let best = pack(
+            b,
+            table,
+            (sorted_total, sorted_rows, sorted_cols),
+            opts,
+            true,
+        );
+        (Some(table.to_t(best.0)), best.1, best.2)
+    } else {
+        (None, sorted_rows, sorted_cols)
+    };
+    Ok(Temperature {
+        given,
+        sorted,
+        packed,
+        isocline_p: table.p,
+        row_order,
+        col_order,
+    })
+}
+
+/// The per-cell unexpectedness `u_ij` of a network's binary view in its
+/// given order (0 for expected cells); `T = 100 sum / (m n U_max)`.
+///
+/// Cost and errors as for [`temperature`] without packing.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::metrics::temperature::unexpectedness;
+/// use nidus::Network;
+/// let net = Network::from_array(array![[0, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
+/// let u = unexpectedness(&net).unwrap();
+/// assert!(u[[0, 0]] > 0.0); // an absence in the top-left corner
+/// assert_eq!(u[[2, 2]], 0.0); // an absence in the bottom-right corner
+/// ```
+pub fn unexpectedness<T: Weight>(net: &Network<T>) -> Result<ndarray::Array2<f64>> {
+    check_size(net.nrows(), net.ncols())?;
+    let b = net.binary()?;
+    let table = UnexpectednessTable::new(b.nrows(), b.ncols(), b.count_ones())?;
+    Ok(ndarray::Array2::from_shape_fn(
+        (b.nrows(), b.ncols()),
+        |(i, j)| {
+            if b.get(i, j) {
+                table.if_present(i, j)
+            } else {
+                table.if_absent(i, j)
+            }
+        },
+    ))
+}
+
+/// A candidate: `(sum of u, row order, column order)`.
+type Candidate = (f64, Vec<usize>, Vec<usize>);
+
+/// The search state shared by all starts: the matrix's ones by row and by
+/// column, and the cost of a presence relative to an absence at every
+/// position (`delta`, row-major, and its transpose).
+struct Packer<'a> {
+    b: &'a BitMatrix,
+    table: &'a UnexpectednessTable,
+    row_ones: Vec<Vec<usize>>,
+    col_ones: Vec<Vec<usize>>,
+    /// `delta[i n + j] = present - absent` at position `(i, j)`.
+    delta: Vec<f64>,
+    /// `delta_t[j m + i]` = the same, transposed.
+    delta_t: Vec<f64>,
+}
+
+impl<'a> Packer<'a> {
+    fn new(b: &'a BitMatrix, table: &'a UnexpectednessTable) -> Self {
+        let (m, n) = (b.nrows(), b.ncols());
+        let row_ones: Vec<Vec<usize>> = (0..m).map(|i| b.row_ones(i).collect()).collect();
+        let mut col_ones = vec![Vec::new(); n];
+        for (i, ones) in row_ones.iter().enumerate() {
+            for &j in ones {
+                col_ones[j].push(i);
+            }
+        }
+        let delta: Vec<f64> = table
+            .present
+            .iter()
+            .zip(&table.absent)
+            .map(|(p, a)| p - a)
+            .collect();
+        let mut delta_t = vec![0.0; m * n];
+        for i in 0..m {
+            for j in 0..n {
+                delta_t[j * m + i] = delta[i * n + j];
+            }
+        }
+        Packer {
+            b,
+            table,
+            row_ones,
+            col_ones,
+            delta,
+            delta_t,
+        }
+    }
+
+    /// The best order of one side given the other side's positions:
+    /// `ones[r]` are the members of the other side that item `r` holds,
+    /// `other_pos` their positions, `d` the delta table with this side's
+    /// positions as rows (`k` items, `width` positions of the other side).
+    /// The cost of item `r` at position `i` is `sum_{c in ones[r]} d[i][pos(c)]`
+    /// (the absence part is the same for every item, so it is left out).
+    fn best_side(
+        ones: &[Vec<usize>],
+        other_pos: &[usize],
+        d: &[f64],
+        width: usize,
+        cost: &mut Vec<f64>,
+        work: &mut Workspace,
+    ) -> Vec<usize> {
+        let k = ones.len();
+        cost.clear();
+        cost.resize(k * k, 0.0);
+        let mut at: Vec<usize> = Vec::new();
+        for (r, row) in ones.iter().enumerate() {
+            at.clear();
+            at.extend(row.iter().map(|&c| other_pos[c]));
+            let out = &mut cost[r * k..(r + 1) * k];
+            for (i, slot) in out.iter_mut().enumerate() {
+                let di = &d[i * width..(i + 1) * width];
+                *slot = at.iter().map(|&q| di[q]).sum();
+            }
+        }
+        let pos_of_item = work.solve_from(cost, k, true);
+        let mut order = vec![0usize; k];
+        for (r, &i) in pos_of_item.iter().enumerate() {
+            order[i] = r;
+        }
+        order
+    }
+
+    fn positions(order: &[usize]) -> Vec<usize> {
+        let mut pos = vec![0usize; order.len()];
+        for (i, &r) in order.iter().enumerate() {
+            pos[r] = i;
+        }
+        pos
+    }
+
+    fn best_rows(&self, cols: &[usize], cost: &mut Vec<f64>, work: &mut Workspace) -> Vec<usize> {
+        let pos = Self::positions(cols);
+        Self::best_side(
+            &self.row_ones,
+            &pos,
+            &self.delta,
+            self.b.ncols(),
+            cost,
+            work,
+        )
+    }
+
+    fn best_cols(&self, rows: &[usize], cost: &mut Vec<f64>, work: &mut Workspace) -> Vec<usize> {
+        let pos = Self::positions(rows);
+        Self::best_side(
+            &self.col_ones,
+            &pos,
+            &self.delta_t,
+            self.b.nrows(),
+            cost,
+            work,
+        )
+    }
+
+    /// Alternating exact assignments from one start until a round does not
+    /// lower the total by more than `1e-12 (1 + total)`.
+    fn descend(&self, mut rows: Vec<usize>, mut cols: Vec<usize>) -> Candidate {
+        let mut total = self.table.total(self.b, &rows, &cols);
+        let mut cost = Vec::new();
+        // One workspace per side: each solve starts from the prices of the
+        // previous solve of the same side.
+        let (mut row_work, mut col_work) = (Workspace::default(), Workspace::default());
+        for _ in 0..MAX_ROUNDS {
+            let mut improved = false;
+            let new_rows = self.best_rows(&cols, &mut cost, &mut row_work);
+            let t = self.table.total(self.b, &new_rows, &cols);
+            if t < total - 1e-12 * (1.0 + total) {
+                rows = new_rows;
+                total = t;
+                improved = true;
+            }
+            let new_cols = self.best_cols(&rows, &mut cost, &mut col_work);
+            let t = self.table.total(self.b, &rows, &new_cols);
+            if t < total - 1e-12 * (1.0 + total) {
+                cols = new_cols;
+                total = t;
+                improved = true;
+            }
+            if !improved {
+                break;
+            }
+        }
+        (total, rows, cols)
+    }
+
+    /// Every order of the rows (Heap's algorithm), each with its best
+    /// columns; strict improvements over `best` only, in enumeration order.
+    fn exhaust_rows(&self, mut best: Candidate) -> Candidate {
+        let m = self.b.nrows();
+        let (mut cost, mut work) = (Vec::new(), Workspace::default());
+        let mut rows: Vec<usize> = (0..m).collect();
+        let mut consider = |rows: &[usize], best: &mut Candidate| {
+            let cols = self.best_cols(rows, &mut cost, &mut work);
+            let t = self.table.total(self.b, rows, &cols);
+            if t < best.0 {
+                *best = (t, rows.to_vec(), cols);
+            }
+        };
+        consider(&rows, &mut best);
+        let mut c = vec![0usize; m];
+        let mut i = 1;
+        while i < m {
+            if c[i] < i {
+                if i % 2 == 0 {
+                    rows.swap(0, i);
+                } else {
+                    rows.swap(c[i], i);
+                }
+                consider(&rows, &mut best);
+                c[i] += 1;
+                i = 1;
+            } else {
+                c[i] = 0;
+                i += 1;
+            }
+        }
+        best
+    }
+
+    /// Every order of the columns, each with its best rows.
+    fn exhaust_cols(&self, mut best: Candidate) -> Candidate {
+        let n = self.b.ncols();
+        let (mut cost, mut work) = (Vec::new(), Workspace::default());
+        let mut cols: Vec<usize> = (0..n).collect();
+        let mut consider = |cols: &[usize], best: &mut Candidate| {
+            let rows = self.best_rows(cols, &mut cost, &mut work);
+            let t = self.table.total(self.b, &rows, cols);
+            if t < best.0 {
+                *best = (t, rows, cols.to_vec());
+            }
+        };
+        consider(&cols, &mut best);
+        let mut c = vec![0usize; n];
+        let mut i = 1;
+        while i < n {
+            if c[i] < i {
+                if i % 2 == 0 {
+                    cols.swap(0, i);
+                } else {
+                    cols.swap(c[i], i);
+                }
+                consider(&cols, &mut best);
+                c[i] += 1;
+                i = 1;
+            } else {
+                c[i] = 0;
+                i += 1;
+            }
+        }
+        best
+    }
+}
+
+/// True when packing an `m x n` matrix with `links` ones uses the exact
+/// search (every order of the smaller side, see [`TemperatureOptions`]), so
+/// that the packed `T` is the global minimum; false when it uses the
+/// alternating search. Rule: `k = min(m, n) <= 8` and
+/// `k! (K^3 + K L + m n) <= EXACT_WORK_LIMIT` with `K = max(m, n)`.
+///
+/// # Example
+/// ```
+/// use nidus::metrics::temperature::packing_is_exact;
+/// assert!(packing_is_exact(5, 5, 12));
+/// assert!(!packing_is_exact(200, 200, 8000));
+/// ```
+pub fn packing_is_exact(m: usize, n: usize, links: usize) -> bool {
+    let (k, big) = (m.min(n), m.max(n));
+    if k > 8 {
+        return false;
+    }
+    let perms: f64 = (1..=k).map(|v| v as f64).product();
+    let big = big as f64;
+    perms * (big * big * big + big * links as f64 + (m * n) as f64) <= EXACT_WORK_LIMIT
+}
+
+/// The generator of random start `k`: Xoshiro256PlusPlus seeded from
+/// `(seed, k)` alone. Each of the four state words mixes both through the
+/// SplitMix64 finaliser, so every output depends on both numbers.
+fn start_rng(seed: u64, k: u64) -> Xoshiro256PlusPlus {
+    fn mix(mut z: u64) -> u64 {
+        z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    let (a, b) = (mix(seed), mix(k ^ 0x7465_6d70_6572_6174));
+    let mut bytes = [0u8; 32];
+    for (t, chunk) in bytes.chunks_exact_mut(8).enumerate() {
+        let w = mix(a ^ mix(b.wrapping_add(t as u64)));
+        chunk.copy_from_slice(&w.to_le_bytes());
+    }
+    Xoshiro256PlusPlus::from_seed(bytes)
+}
+
+/// The packed order: the best of the sorted candidate and the search (exact
+/// where it applies and `allow_exact`, else alternating from the sorted
+/// start and `opts.restarts` random starts).
+fn pack(
+    b: &BitMatrix,
+    table: &UnexpectednessTable,
+    sorted: Candidate,
+    opts: &TemperatureOptions,
+    allow_exact: bool,
+) -> Candidate {
+    let (m, n) = (b.nrows(), b.ncols());
+    let links = table.links;
+    if links == 0 || links == m * n || sorted.0 == 0.0 {
+        return sorted; // nothing can be lower than 0
+    }
+    let packer = Packer::new(b, table);
+    if allow_exact && packing_is_exact(m, n, links) {
+        return if m <= n {
+            packer.exhaust_rows(sorted)
+        } else {
+            packer.exhaust_cols(sorted)
+        };
+    }
+    let starts: Vec<Candidate> = (0..=opts.restarts as u64)
+        .into_par_iter()
+        .map(|k| {
+            if k == 0 {
+                packer.descend(sorted.1.clone(), sorted.2.clone())
+            } else {
+                let mut rng = start_rng(opts.seed, k);
+                let mut rows: Vec<usize> = (0..m).collect();
+                let mut cols: Vec<usize> = (0..n).collect();
+                rows.shuffle(&mut rng);
+                cols.shuffle(&mut rng);
+                packer.descend(rows, cols)
+            }
+        })
+        .collect();
+    let mut best = sorted;
+    for cand in starts {
+        if cand.0 < best.0 {
+            best = cand;
+        }
+    }
+    best
+}
+
+#[cfg(test)]
+mod tests;
