@@ -10,7 +10,7 @@ use std::str::FromStr;
 
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
-use crate::metrics::{self, Order};
+use crate::metrics::{self, Order, TemperatureOptions};
 use crate::network::{Network, Weight};
 
 /// A scalar index that can be tested against a null model.
@@ -25,6 +25,12 @@ pub enum IndexKind {
     NodfCols,
     /// Weighted NODF.
     Wnodf,
+    /// Temperature in the packed order (the packing of [`IndexOptions::temperature`]).
+    Temperature,
+    /// Temperature in the degree-sorted order (no packing search: cheap).
+    TemperatureSorted,
+    /// Discrepancy (Brualdi & Sanderson 1999).
+    Discrepancy,
 }
 
 /// Which direction of an index means "more nested".
@@ -44,6 +50,9 @@ impl IndexKind {
         IndexKind::NodfRows,
         IndexKind::NodfCols,
         IndexKind::Wnodf,
+        IndexKind::Temperature,
+        IndexKind::TemperatureSorted,
+        IndexKind::Discrepancy,
     ];
 
     /// The name used on the command line and in output.
@@ -53,6 +62,9 @@ impl IndexKind {
             IndexKind::NodfRows => "nodf-rows",
             IndexKind::NodfCols => "nodf-cols",
             IndexKind::Wnodf => "wnodf",
+            IndexKind::Temperature => "temperature",
+            IndexKind::TemperatureSorted => "temperature-sorted",
+            IndexKind::Discrepancy => "discrepancy",
         }
     }
 
@@ -61,6 +73,9 @@ impl IndexKind {
         match self {
             IndexKind::Nodf | IndexKind::NodfRows | IndexKind::NodfCols | IndexKind::Wnodf => {
                 Direction::Greater
+            }
+            IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
+                Direction::Less
             }
         }
     }
@@ -106,6 +121,8 @@ impl FromStr for IndexKind {
 pub struct IndexOptions {
     /// Row and column order for NODF and WNODF.
     pub order: Order,
+    /// Packing search for [`IndexKind::Temperature`].
+    pub temperature: TemperatureOptions,
 }
 
 fn nodf_part(kind: IndexKind, p: metrics::Parts) -> Result<f64> {
@@ -135,6 +152,9 @@ pub fn evaluate<T: Weight>(kind: IndexKind, net: &Network<T>, opts: &IndexOption
             nodf_part(kind, metrics::nodf(net, opts.order)?)
         }
         IndexKind::Wnodf => Ok(metrics::wnodf(net, opts.order)?.total),
+        IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
+            evaluate_bits(kind, &net.binary()?, opts)
+        }
     }
 }
 
@@ -149,5 +169,24 @@ pub fn evaluate_bits(kind: IndexKind, b: &BitMatrix, opts: &IndexOptions) -> Res
             "{} reads weights; test it against a weighted null model",
             kind.name()
         ))),
+        IndexKind::Temperature => {
+            let t = metrics::temperature_of_bits(
+                b,
+                &TemperatureOptions {
+                    pack: true,
+                    ..opts.temperature
+                },
+            )?;
+            Ok(t.packed.unwrap_or(t.sorted))
+        }
+        IndexKind::TemperatureSorted => Ok(metrics::temperature_of_bits(
+            b,
+            &TemperatureOptions {
+                pack: false,
+                ..opts.temperature
+            },
+        )?
+        .sorted),
+        IndexKind::Discrepancy => Ok(metrics::discrepancy_of_bits(b) as f64),
     }
 }

@@ -8,7 +8,7 @@ use std::fmt;
 use std::str::FromStr;
 
 use crate::error::{Error, Result};
-use crate::metrics::{self, Order, Parts};
+use crate::metrics::{self, Order, Parts, Temperature, TemperatureOptions};
 use crate::network::{Network, Weight};
 
 /// A family of indices that `measure` can compute.
@@ -18,17 +18,28 @@ pub enum Family {
     Nodf,
     /// WNODF with its row and column parts.
     Wnodf,
+    /// Temperature in the given, sorted and packed orders.
+    Temperature,
+    /// Discrepancy (Brualdi & Sanderson 1999).
+    Discrepancy,
 }
 
 impl Family {
     /// All families, in output order.
-    pub const ALL: &'static [Family] = &[Family::Nodf, Family::Wnodf];
+    pub const ALL: &'static [Family] = &[
+        Family::Nodf,
+        Family::Wnodf,
+        Family::Temperature,
+        Family::Discrepancy,
+    ];
 
     /// Name on the command line and in output.
     pub fn name(self) -> &'static str {
         match self {
             Family::Nodf => "nodf",
             Family::Wnodf => "wnodf",
+            Family::Temperature => "temperature",
+            Family::Discrepancy => "discrepancy",
         }
     }
 }
@@ -63,6 +74,8 @@ pub struct MeasureOptions {
     pub order: Order,
     /// Families to compute, in any order (each at most once).
     pub families: Vec<Family>,
+    /// Packing of the temperature (restarts, seed; packing can be switched off).
+    pub temperature: TemperatureOptions,
 }
 
 impl Default for MeasureOptions {
@@ -70,6 +83,7 @@ impl Default for MeasureOptions {
         MeasureOptions {
             order: Order::Sorted,
             families: Family::ALL.to_vec(),
+            temperature: TemperatureOptions::default(),
         }
     }
 }
@@ -102,6 +116,10 @@ pub struct Measurement {
     pub nodf: Option<Parts>,
     /// WNODF (Almeida-Neto & Ulrich 2011); `None` for a binary network.
     pub wnodf: Option<Parts>,
+    /// Temperature (Atmar & Patterson 1993); its orders are input positions.
+    pub temperature: Option<Temperature>,
+    /// Discrepancy (Brualdi & Sanderson 1999).
+    pub discrepancy: Option<usize>,
 }
 
 /// Computes the description of `net` and the indices `opts` asks for.
@@ -127,6 +145,21 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
     } else {
         None
     };
+    let temperature = if opts.wants(Family::Temperature) {
+        Some(metrics::temperature(net, &opts.temperature).map_err(|e| match e {
+            Error::TooLarge { .. } => Error::InvalidArgument(format!(
+                "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,discrepancy)"
+            )),
+            e => e,
+        })?)
+    } else {
+        None
+    };
+    let discrepancy = if opts.wants(Family::Discrepancy) {
+        Some(metrics::discrepancy(net)?)
+    } else {
+        None
+    };
     Ok(Measurement {
         rows: net.nrows(),
         cols: net.ncols(),
@@ -136,5 +169,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         order: opts.order,
         nodf,
         wnodf,
+        temperature,
+        discrepancy,
     })
 }

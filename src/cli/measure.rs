@@ -7,6 +7,7 @@ use std::process::ExitCode;
 use clap::Args;
 use nidus::io::{read_network, EdgeHeader, Layout, ReadOptions};
 use nidus::measure::{measure, Family, MeasureOptions};
+use nidus::metrics::TemperatureOptions;
 use nidus::Order;
 
 use super::report::Table;
@@ -29,6 +30,12 @@ pub struct MeasureArgs {
     /// Indices to compute, comma-separated (default: all).
     #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>)]
     indices: Option<List<Family>>,
+    /// Temperature: random starts of the packing search besides the degree-sorted one.
+    #[arg(long, default_value_t = TemperatureOptions::default().restarts, value_name = "N")]
+    restarts: usize,
+    /// Temperature: report the given and sorted orders only, without searching for the packed order.
+    #[arg(long)]
+    no_packing: bool,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
@@ -42,6 +49,11 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let opts = MeasureOptions {
         order: args.order,
         families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
+        temperature: TemperatureOptions {
+            pack: !args.no_packing,
+            restarts: args.restarts,
+            ..TemperatureOptions::default()
+        },
     };
     let table = Table::new(args.format, &opts);
     let stdout = io::stdout();
@@ -63,10 +75,17 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         }
     }
     for file in &args.files {
-        let result = read_network(file, &read).and_then(|net| measure(&net, &opts));
+        let result = read_network(file, &read).and_then(|net| {
+            let m = measure(&net, &opts)?;
+            Ok(table.record(
+                &file.display().to_string(),
+                &m,
+                (net.row_labels(), net.col_labels()),
+            ))
+        });
         match result {
-            Ok(m) => {
-                if !write(&mut out, table.record(&file.display().to_string(), &m)) {
+            Ok(text) => {
+                if !write(&mut out, text) {
                     break;
                 }
             }

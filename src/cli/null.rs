@@ -112,7 +112,7 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
     let mut s = String::new();
     if format == Format::Text {
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<10} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<18} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
             run.model,
             run.seed,
             run.draws,
@@ -210,7 +210,7 @@ fn text(kind: IndexKind, x: &NullSummary) -> String {
     };
     let q = format!("{:.2} / {:.2} / {:.2}", x.q025, x.q50, x.q975);
     format!(
-        "  {:<10} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
+        "  {:<18} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
         kind.name(),
         x.observed,
         x.mean,

@@ -25,6 +25,26 @@ fn parts_json(p: Option<Parts>) -> Value {
     }
 }
 
+fn temperature_json(m: &Measurement, (rows, cols): (&[String], &[String])) -> Value {
+    let Some(t) = &m.temperature else {
+        return Value::Null;
+    };
+    let named = |order: &[usize], labels: &[String]| -> Value {
+        order
+            .iter()
+            .map(|&i| Value::from(labels[i].as_str()))
+            .collect()
+    };
+    json!({
+        "given": t.given,
+        "sorted": t.sorted,
+        "packed": opt(t.packed),
+        "isocline_p": t.isocline_p,
+        "row_order": named(&t.row_order, rows),
+        "col_order": named(&t.col_order, cols),
+    })
+}
+
 fn csv_num(x: Option<f64>) -> String {
     x.map_or(String::new(), |v| v.to_string())
 }
@@ -63,21 +83,29 @@ impl Table {
             match f {
                 Family::Nodf => cols.extend(["nodf", "nodf_rows", "nodf_cols"]),
                 Family::Wnodf => cols.extend(["wnodf", "wnodf_rows", "wnodf_cols"]),
+                Family::Temperature => cols.extend([
+                    "temperature_given",
+                    "temperature_sorted",
+                    "temperature_packed",
+                    "isocline_p",
+                ]),
+                Family::Discrepancy => cols.push("discrepancy"),
             }
         }
         Some(cols.join(",") + "\n")
     }
 
     /// The output for one file.
-    pub fn record(&self, file: &str, m: &Measurement) -> String {
+    /// `labels` (rows, columns) name the species in temperature's orders.
+    pub fn record(&self, file: &str, m: &Measurement, labels: (&[String], &[String])) -> String {
         match self.format {
-            Format::Json => self.json(file, m).to_string() + "\n",
+            Format::Json => self.json(file, m, labels).to_string() + "\n",
             Format::Csv => self.csv(file, m),
             Format::Text => self.text(file, m),
         }
     }
 
-    fn json(&self, file: &str, m: &Measurement) -> Value {
+    fn json(&self, file: &str, m: &Measurement, labels: (&[String], &[String])) -> Value {
         let mut o = Map::new();
         o.insert("file".into(), file.into());
         o.insert("rows".into(), m.rows.into());
@@ -90,6 +118,8 @@ impl Table {
             let v = match f {
                 Family::Nodf => parts_json(m.nodf),
                 Family::Wnodf => parts_json(m.wnodf),
+                Family::Temperature => temperature_json(m, labels),
+                Family::Discrepancy => m.discrepancy.map_or(Value::Null, Value::from),
             };
             o.insert(f.name().into(), v);
         }
@@ -117,6 +147,18 @@ impl Table {
             match f {
                 Family::Nodf => cells.extend(parts(m.nodf)),
                 Family::Wnodf => cells.extend(parts(m.wnodf)),
+                Family::Temperature => {
+                    let t = m.temperature.as_ref();
+                    cells.extend([
+                        csv_num(t.map(|t| t.given)),
+                        csv_num(t.map(|t| t.sorted)),
+                        csv_num(t.and_then(|t| t.packed)),
+                        csv_num(t.map(|t| t.isocline_p)),
+                    ])
+                }
+                Family::Discrepancy => {
+                    cells.push(m.discrepancy.map_or(String::new(), |d| d.to_string()))
+                }
             }
         }
         cells.join(",") + "\n"
@@ -156,6 +198,24 @@ impl Table {
                     }
                     None => s += "  WNODF        not computed: every link has weight 1\n",
                 },
+                Family::Temperature => {
+                    if let Some(t) = &m.temperature {
+                        let packed = t
+                            .packed
+                            .map_or("not searched".into(), |p| format!("{p:.2}"));
+                        s += &format!(
+                            "  temperature  {packed} packed, {:.2} sorted, {:.2} given   (isocline p {:.3}; lower is more nested)\n",
+                            t.sorted, t.given, t.isocline_p
+                        );
+                    }
+                }
+                Family::Discrepancy => {
+                    if let Some(d) = m.discrepancy {
+                        s += &format!(
+                            "  discrepancy  {d}   (links out of place; 0 is perfectly nested)\n"
+                        );
+                    }
+                }
             }
         }
         s + "\n"

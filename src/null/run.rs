@@ -313,6 +313,7 @@ fn run_inner<T: Weight>(
     let sampler = NullSampler::new(net, config.model, &config.options)?;
     let opts = IndexOptions {
         order: config.order,
+        ..IndexOptions::default()
     };
     let template = net.to_f64();
     let observed: Vec<f64> = if config.model.is_weighted() {
