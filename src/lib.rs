@@ -18,6 +18,7 @@
 
 pub mod bits;
 pub mod error;
+pub mod kernels;
 pub mod metrics;
 pub mod network;
 

@@ -513,11 +513,28 @@ impl<T: Weight> Network<T> {
         let mut b = BitMatrix::zeros(m, n);
         match &self.cells {
             Cells::Dense(w) => {
-                for ((i, j), x) in w.indexed_iter() {
-                    if !x.is_zero() {
-                        b.set(i, j, true);
+                // Whole words at a time, rows in parallel.
+                b = BitMatrix::from_row_fn(m, n, |i, words| {
+                    let row = w.row(i);
+                    match row.as_slice() {
+                        Some(cells) => {
+                            for (word, chunk) in words.iter_mut().zip(cells.chunks(64)) {
+                                let mut x = 0u64;
+                                for (bit, c) in chunk.iter().enumerate() {
+                                    x |= (!c.is_zero() as u64) << bit;
+                                }
+                                *word = x;
+                            }
+                        }
+                        None => {
+                            for (j, c) in row.iter().enumerate() {
+                                if !c.is_zero() {
+                                    words[j / 64] |= 1 << (j % 64);
+                                }
+                            }
+                        }
                     }
-                }
+                });
             }
             Cells::Sparse(c) => {
                 for i in 0..m {

@@ -7,9 +7,12 @@ use std::str::FromStr;
 use crate::error::Error;
 
 pub mod nodf;
+pub mod sparse;
+pub mod spectral;
 pub mod wnodf;
 
 pub use nodf::{nodf, nodf_bits, Nodf};
+pub use spectral::{spectral_radius, SpectralRadius};
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.
@@ -110,6 +113,7 @@ impl Parts {
 /// With [`Order::Sorted`] the uppers of `l` are all members with larger
 /// degree; with [`Order::Given`] the members before `l` in input order with
 /// larger degree.
+#[allow(dead_code)] // no longer used by NODF/WNODF; kept for other indices
 pub(crate) fn upper_sets(degrees: &[usize], order: Order) -> Vec<(usize, Vec<usize>)> {
     let m = degrees.len();
     let mut out = Vec::new();

@@ -1,0 +1,390 @@
+//! NODF and WNODF on compressed rows and columns, without an `m x n` table.
+//!
+//! These kernels serve sparsely stored networks (and WNODF of every
+//! network). They never form a pair of species that shares no partner, and
+//! most of them never form a pair at all:
+//!
+//! * **NODF, sorted order**, `O(m + n + L)`: the overlaps of a lower row
+//!   with all rows of larger degree add up to `sum over j in N(l) of c_j`,
+//!   where `c_j` counts the rows of larger degree that hold column `j`. Rows
+//!   are visited by decreasing degree, one tie group at a time: the group
+//!   reads its columns' counts, then adds its own cells to them.
+//! * **NODF, given order**, `O(L log n)`: for each column, its rows in input
+//!   order; each row counts the earlier rows of larger degree in that column
+//!   (a Fenwick tree over degrees, or a direct loop for short columns).
+//! * **WNODF, sorted order**, `O(L log m)`: for each column, each of its rows
+//!   counts the rows of larger degree with a larger weight in that column (a
+//!   two-sided dominance count: tie groups by decreasing degree, a Fenwick
+//!   tree over the column's weight ranks).
+//! * **WNODF, given order**, `O(sum_j d_j^2)`: the pairs of rows sharing each
+//!   column, earlier row as upper.
+//!
+//! Columns are handled likewise through the rows' lists. Counts are
+//! integers; every lower member's count is divided once by its degree and the
+//! quotients are added in member order, exactly as the dense kernels do, so
+//! the values agree to the last bit for any number of threads. Memory:
+//! `O(m + n + L)` for the transposed lists plus one `O(m)` (or `O(n)`)
+//! counter per parallel task.
+
+use rayon::prelude::*;
+
+use crate::error::Result;
+use crate::metrics::{degree_order, Order, Parts};
+use crate::network::{Csr, Weight};
+
+/// NODF (see [`crate::metrics::nodf()`]) from compressed rows, never forming
+/// a dense table. Cost: `O(m + n + L)` time in the sorted order,
+/// `O(L log(max(m, n)))` in the given order; memory `O(m + n + L)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{metrics::{sparse::nodf_csr, Order}, Csr};
+/// let w = array![[1, 1, 1], [1, 1, 0], [1, 0, 0]];
+/// let csr = Csr::from_dense(w.view());
+/// assert_eq!(nodf_csr(&csr, Order::Sorted).unwrap().total, 100.0);
+/// ```
+pub fn nodf_csr<T: Weight>(csr: &Csr<T>, order: Order) -> Result<Parts> {
+    let csc = csr.transpose();
+    let (m, n) = (csr.nrows(), csr.ncols());
+    let rd = degrees(csr.indptr());
+    let cd = degrees(csc.indptr());
+    let (rows, cols) = rayon::join(
+        || {
+            let ov = match order {
+                Order::Sorted => overlaps_sorted(csr.indptr(), csr.indices(), n, &rd),
+                Order::Given => overlaps_given(csc.indptr(), csc.indices(), m, &rd, PAIR_LIMIT),
+            };
+            side_value(&rd, &ov)
+        },
+        || {
+            let ov = match order {
+                Order::Sorted => overlaps_sorted(csc.indptr(), csc.indices(), m, &cd),
+                Order::Given => overlaps_given(csr.indptr(), csr.indices(), n, &cd, PAIR_LIMIT),
+            };
+            side_value(&cd, &ov)
+        },
+    );
+    Parts::from_sums("NODF", m, n, rows, cols)
+}
+
+/// WNODF (see [`crate::metrics::wnodf()`]) from compressed rows. Cost:
+/// `O(L log(max(m, n)))` in the sorted order, `O(sum of squared degrees)` in
+/// the given order; memory `O(m + n + L)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{metrics::{sparse::wnodf_csr, Order}, Csr};
+/// let w = array![[5, 4, 3], [2, 1, 0], [1, 0, 0]];
+/// let csr = Csr::from_dense(w.view());
+/// assert_eq!(wnodf_csr(&csr, Order::Sorted).unwrap().total, 100.0);
+/// ```
+pub fn wnodf_csr<T: Weight>(csr: &Csr<T>, order: Order) -> Result<Parts> {
+    wnodf_csr_with(csr, order, PAIR_LIMIT)
+}
+
+pub(crate) fn wnodf_csr_with<T: Weight>(
+    csr: &Csr<T>,
+    order: Order,
+    pair_limit: usize,
+) -> Result<Parts> {
+    let csc = csr.transpose();
+    let (m, n) = (csr.nrows(), csr.ncols());
+    let rd = degrees(csr.indptr());
+    let cd = degrees(csc.indptr());
+    let (rows, cols) = rayon::join(
+        || side_value(&rd, &weighted_counts(&csc, m, &rd, order, pair_limit)),
+        || side_value(&cd, &weighted_counts(csr, n, &cd, order, pair_limit)),
+    );
+    Parts::from_sums("WNODF", m, n, rows, cols)
+}
+
+/// Lists no longer than this are handled by a direct loop over their pairs;
+/// longer ones by a Fenwick tree.
+pub(crate) const PAIR_LIMIT: usize = 48;
+
+fn degrees(indptr: &[usize]) -> Vec<usize> {
+    indptr.windows(2).map(|w| w[1] - w[0]).collect()
+}
+
+/// `sum over members l with d_l > 0, in order, of 100 * counts[l] / d_l`.
+fn side_value(degrees: &[usize], counts: &[u64]) -> f64 {
+    degrees
+        .iter()
+        .zip(counts)
+        .filter(|(&d, _)| d > 0)
+        .map(|(&d, &c)| 100.0 * c as f64 / d as f64)
+        .sum()
+}
+
+/// Sorted order: for each member of the side listed by `indptr`/`indices`,
+/// the sum of its overlaps with all members of larger degree.
+pub(crate) fn overlaps_sorted(
+    indptr: &[usize],
+    indices: &[u32],
+    partners: usize,
+    degrees: &[usize],
+) -> Vec<u64> {
+    let m = degrees.len();
+    let ord = degree_order(degrees);
+    let mut counts = vec![0u32; partners];
+    let mut ov = vec![0u64; m];
+    let mut p = 0;
+    while p < m {
+        let mut q = p + 1;
+        while q < m && degrees[ord[q]] == degrees[ord[p]] {
+            q += 1;
+        }
+        for &r in &ord[p..q] {
+            ov[r] = indices[indptr[r]..indptr[r + 1]]
+                .iter()
+                .map(|&j| counts[j as usize] as u64)
+                .sum();
+        }
+        for &r in &ord[p..q] {
+            for &j in &indices[indptr[r]..indptr[r + 1]] {
+                counts[j as usize] += 1;
+            }
+        }
+        p = q;
+    }
+    ov
+}
+
+/// Runs `body(list, acc, scratch)` over all lists, in parallel chunks with
+/// one `m`-long integer accumulator each, and adds the accumulators.
+fn per_list<S>(
+    nlists: usize,
+    m: usize,
+    scratch: impl Fn() -> S + Sync,
+    body: impl Fn(usize, &mut [u64], &mut S) + Sync,
+) -> Vec<u64> {
+    let tasks = if nlists < 512 {
+        1
+    } else {
+        (rayon::current_num_threads() * 4).min(nlists)
+    };
+    let per = nlists.div_ceil(tasks).max(1);
+    let parts: Vec<Vec<u64>> = (0..tasks)
+        .into_par_iter()
+        .map(|t| {
+            let mut acc = vec![0u64; m];
+            let mut s = scratch();
+            for j in (t * per)..((t + 1) * per).min(nlists) {
+                body(j, &mut acc, &mut s);
+            }
+            acc
+        })
+        .collect();
+    let mut parts = parts.into_iter();
+    let mut total = parts.next().unwrap_or_else(|| vec![0; m]);
+    for part in parts {
+        for (t, x) in total.iter_mut().zip(part) {
+            *t += x;
+        }
+    }
+    total
+}
+
+/// A Fenwick (binary indexed) tree of counts over positions `1..=len`.
+struct Fenwick(Vec<u32>);
+
+impl Fenwick {
+    fn with_len(len: usize) -> Self {
+        Fenwick(vec![0; len + 1])
+    }
+    fn reset(&mut self, len: usize) {
+        self.0.clear();
+        self.0.resize(len + 1, 0);
+    }
+    fn add(&mut self, mut i: usize, x: i32) {
+        while i < self.0.len() {
+            self.0[i] = self.0[i].wrapping_add_signed(x);
+            i += i & i.wrapping_neg();
+        }
+    }
+    /// Sum over positions `1..=i`.
+    fn prefix(&self, mut i: usize) -> u64 {
+        let mut s = 0u64;
+        while i > 0 {
+            s += self.0[i] as u64;
+            i &= i - 1;
+        }
+        s
+    }
+}
+
+/// Given order: for each member `l` of the side with `degrees`, the sum of
+/// its overlaps with the earlier members of larger degree, from the other
+/// side's lists (each list: the members holding one partner, ascending).
+pub(crate) fn overlaps_given(
+    other_indptr: &[usize],
+    other_indices: &[u32],
+    m: usize,
+    degrees: &[usize],
+    pair_limit: usize,
+) -> Vec<u64> {
+    let max_deg = degrees.iter().copied().max().unwrap_or(0);
+    per_list(
+        other_indptr.len() - 1,
+        m,
+        || Fenwick::with_len(max_deg + 1),
+        |j, acc, fen| {
+            let list = &other_indices[other_indptr[j]..other_indptr[j + 1]];
+            if list.len() <= pair_limit {
+                for (b, &lb) in list.iter().enumerate() {
+                    let db = degrees[lb as usize];
+                    let c = list[..b]
+                        .iter()
+                        .filter(|&&la| degrees[la as usize] > db)
+                        .count();
+                    acc[lb as usize] += c as u64;
+                }
+            } else {
+                // Position d + 1 counts the earlier members of degree d.
+                for (b, &lb) in list.iter().enumerate() {
+                    let db = degrees[lb as usize];
+                    acc[lb as usize] += b as u64 - fen.prefix(db + 1);
+                    fen.add(db + 1, 1);
+                }
+                for &lb in list {
+                    fen.add(degrees[lb as usize] + 1, -1);
+                }
+            }
+        },
+    )
+}
+
+/// WNODF counts `k_l = sum over uppers u of #{j : 0 < w_lj < w_uj}` for
+/// every member `l` of the side with `degrees`, from the other side's lists
+/// with weights.
+fn weighted_counts<T: Weight>(
+    other: &Csr<T>,
+    m: usize,
+    degrees: &[usize],
+    order: Order,
+    pair_limit: usize,
+) -> Vec<u64> {
+    struct Scratch<T> {
+        entries: Vec<(usize, usize, T)>, // (degree, member, weight)
+        distinct: Vec<T>,
+        fen: Fenwick,
+    }
+    let cmp = |a: &T, b: &T| a.partial_cmp(b).unwrap_or(std::cmp::Ordering::Equal);
+    per_list(
+        other.nrows(),
+        m,
+        || Scratch {
+            entries: Vec::new(),
+            distinct: Vec::new(),
+            fen: Fenwick::with_len(0),
+        },
+        |j, acc, s| {
+            let (members, weights) = other.row(j);
+            let k = members.len();
+            if order == Order::Given || k <= pair_limit {
+                for b in 0..k {
+                    let (lb, wb) = (members[b] as usize, weights[b]);
+                    let db = degrees[lb];
+                    for a in 0..b {
+                        let (la, wa) = (members[a] as usize, weights[a]);
+                        let da = degrees[la];
+                        if da > db && wa > wb {
+                            acc[lb] += 1;
+                        } else if order == Order::Sorted && db > da && wb > wa {
+                            acc[la] += 1;
+                        }
+                    }
+                }
+                return;
+            }
+            // Sorted order, long list: tie groups by decreasing degree; each
+            // member counts the members already inserted (larger degree)
+            // with a strictly larger weight.
+            s.distinct.clear();
+            s.distinct.extend_from_slice(weights);
+            s.distinct.sort_by(cmp);
+            s.distinct.dedup_by(|a, b| a == b);
+            s.fen.reset(s.distinct.len());
+            s.entries.clear();
+            s.entries.extend(
+                members
+                    .iter()
+                    .zip(weights)
+                    .map(|(&l, &w)| (degrees[l as usize], l as usize, w)),
+            );
+            s.entries.sort_unstable_by_key(|e| std::cmp::Reverse(e.0));
+            let rank = |d: &[T], w: &T| d.partition_point(|x| x <= w); // 1-based rank of w
+            let mut inserted = 0u64;
+            let mut p = 0;
+            while p < k {
+                let mut q = p + 1;
+                while q < k && s.entries[q].0 == s.entries[p].0 {
+                    q += 1;
+                }
+                for e in &s.entries[p..q] {
+                    let r = rank(&s.distinct, &e.2);
+                    acc[e.1] += inserted - s.fen.prefix(r);
+                }
+                for e in &s.entries[p..q] {
+                    let r = rank(&s.distinct, &e.2);
+                    s.fen.add(r, 1);
+                }
+                inserted += (q - p) as u64;
+                p = q;
+            }
+        },
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use ndarray::Array2;
+
+    fn lcg(seed: u64) -> impl FnMut() -> u64 {
+        let mut x = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        move || {
+            x = x
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            x >> 33
+        }
+    }
+
+    /// The Fenwick paths equal the direct pair loops (both written from
+    /// METHODS.md §1-2) on seeded random matrices with long columns, for the
+    /// internal kernels that the public tests cannot force.
+    #[test]
+    fn fenwick_paths_equal_pair_loops() {
+        for seed in 0..40u64 {
+            let mut r = lcg(seed);
+            let (m, n) = (20 + (r() % 60) as usize, 3 + (r() % 20) as usize);
+            let fill = 20 + r() % 70;
+            let w = Array2::from_shape_fn((m, n), |_| {
+                if r() % 100 < fill {
+                    1 + (r() % 4) as u32
+                } else {
+                    0
+                }
+            });
+            let csr = Csr::from_dense(w.view());
+            let csc = csr.transpose();
+            let rd = degrees(csr.indptr());
+            for order in [Order::Sorted, Order::Given] {
+                let a = wnodf_csr_with(&csr, order, 0).unwrap();
+                let b = wnodf_csr_with(&csr, order, usize::MAX).unwrap();
+                assert_eq!(a, b, "seed {seed} {order}");
+                let a = weighted_counts(&csc, m, &rd, order, 0);
+                let b = weighted_counts(&csc, m, &rd, order, usize::MAX);
+                assert_eq!(a, b, "seed {seed} {order}");
+            }
+            let a = overlaps_given(csc.indptr(), csc.indices(), m, &rd, 0);
+            let b = overlaps_given(csc.indptr(), csc.indices(), m, &rd, usize::MAX);
+            assert_eq!(a, b, "seed {seed}");
+        }
+    }
+}
