@@ -183,27 +183,66 @@ unsafe fn panel_avx512(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
 /// words each, back to back (at most [`PANEL`] are used); `out[r]` receives
 /// the number of bits set in both `upper` and lower row `r`, for `r < k`.
 /// A path the CPU does not support falls back to
-/// [`PopcountPath::Portable`], so every call is safe.
+/// [`PopcountPath::Portable`], so every call is safe. In a loop, prefer a
+/// [`PanelKernel`], which checks the CPU once.
 ///
 /// Cost: `k * upper.len()` word operations.
 pub fn panel_overlaps(path: PopcountPath, upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
-    match path {
-        #[cfg(target_arch = "x86_64")]
-        PopcountPath::Popcnt if path.is_available() => {
-            // SAFETY: the CPU supports popcnt (checked above).
-            unsafe { panel_popcnt(upper, lowers, out) }
-        }
-        #[cfg(target_arch = "x86_64")]
-        PopcountPath::Avx2 if path.is_available() => {
-            // SAFETY: the CPU supports avx2 and popcnt (checked above).
-            unsafe { panel_avx2(upper, lowers, out) }
-        }
-        #[cfg(target_arch = "x86_64")]
-        PopcountPath::Avx512 if path.is_available() => {
-            // SAFETY: the CPU supports avx512f and avx512vpopcntdq (checked above).
-            unsafe { panel_avx512(upper, lowers, out) }
-        }
-        _ => panel_body(upper, lowers, out),
+    PanelKernel::new(path).run(upper, lowers, out)
+}
+
+type PanelFn = unsafe fn(&[u64], &[u64], &mut [u64; PANEL]);
+
+/// A panel kernel ([`panel_overlaps`]) bound to one path after checking
+/// once that the CPU supports it (else the portable loop).
+#[derive(Clone, Copy)]
+pub struct PanelKernel {
+    path: PopcountPath,
+    f: PanelFn,
+}
+
+impl std::fmt::Debug for PanelKernel {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "PanelKernel({:?})", self.path)
+    }
+}
+
+unsafe fn panel_portable(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+    panel_body(upper, lowers, out)
+}
+
+impl PanelKernel {
+    /// The kernel for `path`, or the portable one when the CPU lacks it.
+    pub fn new(path: PopcountPath) -> PanelKernel {
+        let f: PanelFn = match path {
+            #[cfg(target_arch = "x86_64")]
+            PopcountPath::Popcnt if path.is_available() => panel_popcnt,
+            #[cfg(target_arch = "x86_64")]
+            PopcountPath::Avx2 if path.is_available() => panel_avx2,
+            #[cfg(target_arch = "x86_64")]
+            PopcountPath::Avx512 if path.is_available() => panel_avx512,
+            _ => panel_portable,
+        };
+        let path = if path.is_available() {
+            path
+        } else {
+            PopcountPath::Portable
+        };
+        PanelKernel { path, f }
+    }
+
+    /// The path actually used.
+    pub fn path(&self) -> PopcountPath {
+        self.path
+    }
+
+    /// See [`panel_overlaps`].
+    #[inline]
+    pub fn run(&self, upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+        // SAFETY: `new` stored a target-feature function only after checking
+        // that the CPU supports its features; the functions themselves only
+        // read within the slices they are given.
+        unsafe { (self.f)(upper, lowers, out) }
     }
 }
 

@@ -5,7 +5,7 @@ use rayon::prelude::*;
 
 use crate::bits::BitMatrix;
 use crate::error::Result;
-use crate::kernels::popcount::{panel_overlaps, PopcountPath, PANEL};
+use crate::kernels::popcount::{PanelKernel, PopcountPath, PANEL};
 use crate::metrics::{degree_order, Order, Parts};
 use crate::network::{Network, Weight};
 
@@ -28,7 +28,7 @@ pub type Nodf = Parts;
 /// compressed rows and columns ([`crate::metrics::sparse::nodf_csr`]),
 /// never through an `m x n` table. Both give the same value to the last bit.
 ///
-/// Cost (dense): `O(m n)` to pack the view, then `O(m n / 64 + L)` for the
+/// Cost (dense): `O(m n)` to pack the view, then `O(m n log(m) / 64)` for the
 /// sorted order or `O((m^2 n + n^2 m) / 64)` word operations for the given
 /// order; memory `O(m n / 8)` bytes. See [`upper_overlaps`] for how.
 ///
@@ -102,12 +102,15 @@ fn side_value(b: &BitMatrix, overlaps: &[u64]) -> f64 {
 /// `u` (the rows with `d_u > d_l`; with [`Order::Given`] only those before
 /// `l`). NODF's row part is `sum_l 100 * overlaps[l] / d_l` over `m(m-1)/2`.
 ///
-/// Sorted order, `O(m n / 64 + L)`: the sum equals `sum over j in N(l) of
-/// c_j`, where `c_j` counts the rows of larger degree holding column `j`.
+/// Sorted order, `O(m n log(m) / 64)`: the sum equals `sum over j in N(l)
+/// of c_j`, where `c_j` counts the rows of larger degree holding column `j`.
 /// Rows are visited by decreasing degree, one tie group at a time: each
 /// member of a group first reads its columns' counts, then the group adds
-/// its ones to the counts. No pair of rows is ever formed. Parallel over
-/// stripes of columns (integer partial sums, so exact for any thread count).
+/// its ones to the counts. No pair of rows is ever formed. The counts are
+/// kept bit-sliced (plane `k` holds bit `k` of every `c_j`), so a row reads
+/// them as `sum_k 2^k popcount(row & plane_k)`, on the popcount path, and
+/// adds itself by a ripple carry through the planes. Parallel over stripes
+/// of columns (integer partial sums, so exact for any thread count).
 ///
 /// Given order, `O(m^2 n / 64)`: pairwise popcounts, [`PANEL`] lower rows
 /// per load of an upper row, blocks of 64 lower rows in parallel.
@@ -117,14 +120,15 @@ pub fn upper_overlaps(b: &BitMatrix, order: Order) -> Vec<u64> {
 
 fn upper_overlaps_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Vec<u64> {
     match order {
-        Order::Sorted => overlaps_sorted(b),
+        Order::Sorted => overlaps_sorted(b, path),
         Order::Given => overlaps_given(b, path),
     }
 }
 
-fn overlaps_sorted(b: &BitMatrix) -> Vec<u64> {
+fn overlaps_sorted(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
     let m = b.nrows();
     let words = b.words_per_row();
+    let kernel = PanelKernel::new(path);
     let degrees = b.row_degrees();
     let ord = degree_order(&degrees);
     // Tie groups as ranges of `ord`.
@@ -138,6 +142,8 @@ fn overlaps_sorted(b: &BitMatrix) -> Vec<u64> {
         groups.push(p..q);
         p = q;
     }
+    // Column counts up to m need this many bit planes.
+    let planes = (usize::BITS - m.leading_zeros()).max(1) as usize;
     let stripes = if (m as u128) * (words as u128) < 1 << 16 {
         1
     } else {
@@ -148,27 +154,38 @@ fn overlaps_sorted(b: &BitMatrix) -> Vec<u64> {
         .into_par_iter()
         .map(|s| {
             let (w0, w1) = ((s * per).min(words), ((s + 1) * per).min(words));
-            let mut counts = vec![0u32; (w1 - w0) * 64];
+            let sw = w1 - w0;
+            // Bit-sliced column counts: bit k of c_j is bit j of plane k.
+            let mut plane = vec![0u64; planes * sw];
             let mut ov = vec![0u64; m];
+            let mut pc = [0u64; PANEL];
+            if sw == 0 {
+                return ov;
+            }
             for g in &groups {
+                // Sum over j in N(r) of c_j = sum_k 2^k |row & plane_k|.
                 for &r in &ord[g.clone()] {
                     let row = &b.row(r)[w0..w1];
                     let mut sum = 0u64;
-                    for (k, &word) in row.iter().enumerate() {
-                        let mut x = word;
-                        while x != 0 {
-                            sum += counts[k * 64 + x.trailing_zeros() as usize] as u64;
-                            x &= x - 1;
+                    for (c, chunk) in plane.chunks(PANEL * sw).enumerate() {
+                        kernel.run(row, chunk, &mut pc);
+                        for (k, &x) in pc[..chunk.len() / sw].iter().enumerate() {
+                            sum += x << (c * PANEL + k);
                         }
                     }
                     ov[r] = sum;
                 }
+                // Add the group's rows to the counts (ripple carry per word).
                 for &r in &ord[g.clone()] {
-                    for (k, &word) in b.row(r)[w0..w1].iter().enumerate() {
-                        let mut x = word;
-                        while x != 0 {
-                            counts[k * 64 + x.trailing_zeros() as usize] += 1;
-                            x &= x - 1;
+                    for (w, &x) in b.row(r)[w0..w1].iter().enumerate() {
+                        let mut carry = x;
+                        let mut k = 0;
+                        while carry != 0 {
+                            let cell = &mut plane[k * sw + w];
+                            let old = *cell;
+                            *cell = old ^ carry;
+                            carry &= old;
+                            k += 1;
                         }
                     }
                 }
@@ -194,6 +211,7 @@ fn overlaps_given(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
     let w = b.words_per_row();
     let degrees = b.row_degrees();
     let words = b.as_words();
+    let kernel = PanelKernel::new(path);
     let mut ov = vec![0u64; m];
     ov.par_chunks_mut(BLOCK).enumerate().for_each(|(blk, out)| {
         let l0 = blk * BLOCK;
@@ -212,7 +230,7 @@ fn overlaps_given(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
             while p0 < l1 {
                 let p1 = (p0 + PANEL).min(l1);
                 if degrees[p0..p1].iter().any(|&d| d < du) {
-                    panel_overlaps(path, upper, &words[p0 * w..p1 * w], &mut pair);
+                    kernel.run(upper, &words[p0 * w..p1 * w], &mut pair);
                     for l in p0.max(u + 1)..p1 {
                         if degrees[l] < du {
                             out[l - l0] += pair[l - p0];

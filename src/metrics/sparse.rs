@@ -45,10 +45,14 @@ use crate::network::{Csr, Weight};
 /// assert_eq!(nodf_csr(&csr, Order::Sorted).unwrap().total, 100.0);
 /// ```
 pub fn nodf_csr<T: Weight>(csr: &Csr<T>, order: Order) -> Result<Parts> {
-    let csc = csr.transpose();
     let (m, n) = (csr.nrows(), csr.ncols());
+    let (cptr, cidx, _) = transpose_lists::<f64>(n, csr.indptr(), csr.indices(), None);
+    let csc = Lists {
+        indptr: &cptr,
+        indices: &cidx,
+    };
     let rd = degrees(csr.indptr());
-    let cd = degrees(csc.indptr());
+    let cd = degrees(&cptr);
     let (rows, cols) = rayon::join(
         || {
             let ov = match order {
@@ -98,6 +102,64 @@ pub(crate) fn wnodf_csr_with<T: Weight>(
         || side_value(&cd, &weighted_counts(csr, n, &cd, order, pair_limit)),
     );
     Parts::from_sums("WNODF", m, n, rows, cols)
+}
+
+/// Borrowed index lists (compressed rows or columns, no weights).
+struct Lists<'a> {
+    indptr: &'a [usize],
+    indices: &'a [u32],
+}
+
+impl Lists<'_> {
+    fn indptr(&self) -> &[usize] {
+        self.indptr
+    }
+    fn indices(&self) -> &[u32] {
+        self.indices
+    }
+}
+
+/// The transpose of compressed lists (rows `0..indptr.len() - 1` over
+/// `ncols` columns), with their values if given, by a counting sort:
+/// `O(m + n + L)`. Within each output list the members ascend.
+pub(crate) fn transpose_lists<V: Copy + Default>(
+    ncols: usize,
+    indptr: &[usize],
+    indices: &[u32],
+    values: Option<&[V]>,
+) -> (Vec<usize>, Vec<u32>, Option<Vec<V>>) {
+    let nrows = indptr.len() - 1;
+    let mut cptr = vec![0usize; ncols + 1];
+    for &j in indices {
+        cptr[j as usize + 1] += 1;
+    }
+    for j in 0..ncols {
+        cptr[j + 1] += cptr[j];
+    }
+    let mut next = cptr[..ncols].to_vec();
+    let mut cidx = vec![0u32; indices.len()];
+    let mut cval = values.map(|_| vec![V::default(); indices.len()]);
+    for i in 0..nrows {
+        let (a, b) = (indptr[i], indptr[i + 1]);
+        match (cval.as_mut(), values) {
+            (Some(cv), Some(v)) => {
+                for (&j, &x) in indices[a..b].iter().zip(&v[a..b]) {
+                    let slot = &mut next[j as usize];
+                    cidx[*slot] = i as u32;
+                    cv[*slot] = x;
+                    *slot += 1;
+                }
+            }
+            _ => {
+                for &j in &indices[a..b] {
+                    let slot = &mut next[j as usize];
+                    cidx[*slot] = i as u32;
+                    *slot += 1;
+                }
+            }
+        }
+    }
+    (cptr, cidx, cval)
 }
 
 /// Lists no longer than this are handled by a direct loop over their pairs;

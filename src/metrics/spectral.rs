@@ -34,6 +34,8 @@
 //! transposed lists plus `40 d` doubles for the basis. All sums are taken in
 //! a fixed order, so the value is the same for any number of threads.
 
+use std::borrow::Cow;
+
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -137,75 +139,54 @@ pub fn spectral_radius_of_bits(b: &BitMatrix) -> Result<f64> {
         indices.extend(b.row_ones(i).map(|j| j as u32));
         indptr.push(indices.len());
     }
-    let lists = Lists::new(b.nrows(), b.ncols(), indptr, indices, None);
+    let lists = Lists::new(b.ncols(), Cow::Owned(indptr), Cow::Owned(indices), None);
     top_singular(&lists, false)
 }
 
 /// A sparse matrix by rows and by columns, weights optional (scaled so the
 /// largest is 1, to keep the products far from overflow).
-struct Lists {
-    rows: Pattern,
-    cols: Pattern,
+struct Lists<'a> {
+    rows: Pattern<'a>,
+    cols: Pattern<'a>,
     scale: f64,
 }
 
-struct Pattern {
-    indptr: Vec<usize>,
-    indices: Vec<u32>,
+struct Pattern<'a> {
+    indptr: Cow<'a, [usize]>,
+    indices: Cow<'a, [u32]>,
     values: Option<Vec<f64>>,
 }
 
-impl Lists {
-    fn from_csr<T: Weight>(csr: &Csr<T>) -> Lists {
+impl<'a> Lists<'a> {
+    fn from_csr<T: Weight>(csr: &'a Csr<T>) -> Lists<'a> {
         let values: Vec<f64> = csr.values().iter().map(|x| x.as_f64()).collect();
         Lists::new(
-            csr.nrows(),
             csr.ncols(),
-            csr.indptr().to_vec(),
-            csr.indices().to_vec(),
+            Cow::Borrowed(csr.indptr()),
+            Cow::Borrowed(csr.indices()),
             Some(values),
         )
     }
 
     fn new(
-        nrows: usize,
         ncols: usize,
-        indptr: Vec<usize>,
-        indices: Vec<u32>,
+        indptr: Cow<'a, [usize]>,
+        indices: Cow<'a, [u32]>,
         values: Option<Vec<f64>>,
-    ) -> Lists {
+    ) -> Lists<'a> {
         let scale = values
             .as_ref()
             .map(|v| v.iter().fold(0.0f64, |a, &x| a.max(x.abs())))
             .unwrap_or(1.0);
-        let values = values.map(|v| {
-            if scale > 0.0 {
-                v.iter().map(|x| x / scale).collect()
-            } else {
-                v
+        let scale = if scale > 0.0 { scale } else { 1.0 };
+        let values = values.map(|mut v| {
+            if scale != 1.0 {
+                v.iter_mut().for_each(|x| *x /= scale);
             }
+            v
         });
-        // Counting sort into columns.
-        let mut cptr = vec![0usize; ncols + 1];
-        for &j in &indices {
-            cptr[j as usize + 1] += 1;
-        }
-        for j in 0..ncols {
-            cptr[j + 1] += cptr[j];
-        }
-        let mut next = cptr.clone();
-        let mut cidx = vec![0u32; indices.len()];
-        let mut cval = values.as_ref().map(|_| vec![0.0; indices.len()]);
-        for i in 0..nrows {
-            for k in indptr[i]..indptr[i + 1] {
-                let slot = &mut next[indices[k] as usize];
-                cidx[*slot] = i as u32;
-                if let (Some(cv), Some(v)) = (cval.as_mut(), values.as_ref()) {
-                    cv[*slot] = v[k];
-                }
-                *slot += 1;
-            }
-        }
+        let (cptr, cidx, cval) =
+            crate::metrics::sparse::transpose_lists(ncols, &indptr, &indices, values.as_deref());
         Lists {
             rows: Pattern {
                 indptr,
@@ -213,16 +194,16 @@ impl Lists {
                 values,
             },
             cols: Pattern {
-                indptr: cptr,
-                indices: cidx,
+                indptr: Cow::Owned(cptr),
+                indices: Cow::Owned(cidx),
                 values: cval,
             },
-            scale: if scale > 0.0 { scale } else { 1.0 },
+            scale,
         }
     }
 }
 
-impl Pattern {
+impl Pattern<'_> {
     fn len(&self) -> usize {
         self.indptr.len() - 1
     }
