@@ -185,8 +185,13 @@ impl<'a> Lists<'a> {
             }
             v
         });
-        let (cptr, cidx, cval) =
-            crate::metrics::sparse::transpose_lists(ncols, &indptr, &indices, values.as_deref());
+        let (cptr, cidx, cval) = crate::metrics::sparse::transpose_lists(
+            ncols,
+            &indptr,
+            &indices,
+            values.as_deref(),
+            None,
+        );
         Lists {
             rows: Pattern {
                 indptr,
