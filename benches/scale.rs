@@ -103,5 +103,9 @@ fn sparse_kernels(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(scale, nodf_dense, sparse_kernels);
-criterion_main!(scale);
+#[allow(missing_docs)]
+mod group {
+    use super::*;
+    criterion_group!(scale, nodf_dense, sparse_kernels);
+}
+criterion_main!(group::scale);
