@@ -517,15 +517,7 @@ impl<T: Weight> Network<T> {
                 b = BitMatrix::from_row_fn(m, n, |i, words| {
                     let row = w.row(i);
                     match row.as_slice() {
-                        Some(cells) => {
-                            for (word, chunk) in words.iter_mut().zip(cells.chunks(64)) {
-                                let mut x = 0u64;
-                                for (bit, c) in chunk.iter().enumerate() {
-                                    x |= (!c.is_zero() as u64) << bit;
-                                }
-                                *word = x;
-                            }
-                        }
+                        Some(cells) => crate::kernels::pack::pack_row(cells, words),
                         None => {
                             for (j, c) in row.iter().enumerate() {
                                 if !c.is_zero() {

@@ -355,3 +355,48 @@ fn published_facts_on_every_path() {
         100.0
     );
 }
+
+/// A 60,000 x 50,000 network with 20,000 links is stored sparsely; NODF,
+/// WNODF and the spectral radius run on it without a dense table, while the
+/// bit-packed view (which would need one) is refused with `TooLarge`.
+#[test]
+fn huge_sparse_network_never_dense() {
+    let (m, n) = (60_000usize, 50_000usize);
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(5);
+    let cells: Vec<(u32, u32, u32)> = (0..20_000)
+        .map(|_| {
+            (
+                rng.random_range(0..m as u32),
+                rng.random_range(0..n as u32),
+                rng.random_range(1..5),
+            )
+        })
+        .collect();
+    let labels = |p: &str, k: usize| (0..k).map(|i| format!("{p}{i}")).collect::<Vec<_>>();
+    let net = Network::from_triplets(labels("r", m), labels("c", n), cells).unwrap();
+    assert!(net.is_sparse());
+    assert!(matches!(
+        net.binary(),
+        Err(nidus::Error::TooLarge {
+            rows: 60_000,
+            cols: 50_000,
+            ..
+        })
+    ));
+    for order in [Order::Sorted, Order::Given] {
+        let a = nodf(&net, order).unwrap();
+        assert!(a.total > 0.0 && a.total < 1.0, "{a:?}");
+        assert!(wnodf(&net, order).unwrap().total >= 0.0);
+    }
+    let s = nidus::metrics::spectral_radius(&net).unwrap();
+    // sqrt(max degree) <= rho <= sqrt(L) (METHODS.md §3).
+    let dmax = net
+        .row_degrees()
+        .iter()
+        .chain(net.col_degrees())
+        .max()
+        .copied()
+        .unwrap();
+    assert!(s.binary >= (dmax as f64).sqrt() * (1.0 - 1e-12));
+    assert!(s.binary <= (net.links() as f64).sqrt());
+}

@@ -65,8 +65,8 @@ pub fn nodf_bits(b: &BitMatrix, order: Order) -> Result<Nodf> {
     nodf_bits_with(b, order, PopcountPath::detect())
 }
 
-/// [`nodf_bits`] on a chosen popcount path (used by the given order only;
-/// an unsupported path falls back to the portable one). For tests and
+/// [`nodf_bits`] on a chosen popcount path (an unsupported path falls back
+/// to the portable one). All paths give the same value; for tests and
 /// timing.
 pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result<Nodf> {
     let t = b.transpose();

@@ -92,12 +92,20 @@ pub struct SpectralRadius {
 /// ```
 pub fn spectral_radius<T: Weight>(net: &Network<T>) -> Result<SpectralRadius> {
     let csr = net.csr();
-    let lists = Lists::from_csr(&csr);
-    let binary = top_singular(&lists, false)?;
-    let weighted = if net.is_weighted() {
-        top_singular(&lists, true)?
+    let (binary, weighted) = if net.is_weighted() {
+        let lists = Lists::from_csr(&csr);
+        let binary = top_singular(&lists, false)?;
+        (binary, top_singular(&lists, true)?)
     } else {
-        binary
+        // Weights all 1: one solve on the pattern, no weights copied.
+        let lists = Lists::new(
+            csr.ncols(),
+            Cow::Borrowed(csr.indptr()),
+            Cow::Borrowed(csr.indices()),
+            None,
+        );
+        let binary = top_singular(&lists, false)?;
+        (binary, binary)
     };
     Ok(SpectralRadius {
         weighted,
@@ -298,6 +306,21 @@ fn subtract_combination(basis: &[Vec<f64>], h: &[f64], w: &mut [f64]) {
     });
 }
 
+fn dot(a: &[f64], b: &[f64]) -> f64 {
+    let parts: Vec<f64> = a
+        .par_chunks(CHUNK)
+        .zip(b.par_chunks(CHUNK))
+        .map(|(x, y)| x.iter().zip(y).map(|(p, q)| p * q).sum())
+        .collect();
+    parts.iter().sum()
+}
+
+fn axpy(alpha: f64, x: &[f64], y: &mut [f64]) {
+    y.par_chunks_mut(CHUNK)
+        .zip(x.par_chunks(CHUNK))
+        .for_each(|(yc, xc)| yc.iter_mut().zip(xc).for_each(|(p, q)| *p += alpha * q));
+}
+
 fn norm(w: &[f64]) -> f64 {
     let parts: Vec<f64> = w
         .par_chunks(CHUNK)
@@ -324,12 +347,27 @@ fn lanczos_top(dim: usize, mut apply: impl FnMut(&[f64], &mut [f64])) -> Result<
             let mut w = vec![0.0; dim];
             apply(&basis[k], &mut w);
             products += 1;
-            let h1 = chunked_dots(&basis, &w);
-            subtract_combination(&basis, &h1, &mut w);
-            let h2 = chunked_dots(&basis, &w);
-            subtract_combination(&basis, &h2, &mut w);
-            alpha.push(h1[k] + h2[k]);
-            let b = norm(&w);
+            // Three-term recurrence, then one classical Gram-Schmidt pass
+            // against the whole basis, and a second pass only when the
+            // first removed much of the vector ("twice is enough": Parlett,
+            // The Symmetric Eigenvalue Problem, 1998, §6.9, from memory).
+            let mut a = dot(&basis[k], &w);
+            axpy(-a, &basis[k], &mut w);
+            if k > 0 {
+                axpy(-beta[k - 1], &basis[k - 1], &mut w);
+            }
+            let before = norm(&w);
+            let h = chunked_dots(&basis, &w);
+            subtract_combination(&basis, &h, &mut w);
+            a += h[k];
+            let mut b = norm(&w);
+            if b < std::f64::consts::FRAC_1_SQRT_2 * before {
+                let h = chunked_dots(&basis, &w);
+                subtract_combination(&basis, &h, &mut w);
+                a += h[k];
+                b = norm(&w);
+            }
+            alpha.push(a);
             let (vals, top_vec) = tridiagonal_top(&alpha, &beta);
             let theta = vals[0];
             let resid = b * top_vec[k].abs();
