@@ -99,29 +99,15 @@ pub(crate) fn wnodf_csr_with<T: Weight>(
     let cval = cval.unwrap_or_default();
     let rd = degrees(csr.indptr());
     let cd = degrees(&cptr);
-    let (rows, cols) = match order {
-        Order::Given => rayon::join(
-            || {
-                let k = weighted_counts(&cptr, &cidx, &cval, m, &rd, order, pair_limit);
-                side_value(&rd, &k)
-            },
-            || {
-                let k = weighted_counts(
-                    csr.indptr(),
-                    csr.indices(),
-                    csr.values(),
-                    n,
-                    &cd,
-                    order,
-                    pair_limit,
-                );
-                side_value(&cd, &k)
-            },
-        ),
-        // Lists whose members come by decreasing degree: transposes that
-        // visit the members in degree order.
-        Order::Sorted => rayon::join(
-            || {
+    // In the sorted order the long lists need their members by decreasing
+    // degree. When lists are long on average (dense networks), transposes
+    // that visit the members in degree order deliver that for free;
+    // otherwise the few long lists are sorted where they are met.
+    let ordered =
+        |lists: usize| order == Order::Sorted && csr.nnz() > pair_limit.saturating_mul(lists);
+    let (rows, cols) = rayon::join(
+        || {
+            let k = if ordered(n) {
                 let ord = degree_order(&rd);
                 let (p, i, v) = transpose_lists(
                     n,
@@ -130,17 +116,50 @@ pub(crate) fn wnodf_csr_with<T: Weight>(
                     Some(csr.values()),
                     Some(&ord),
                 );
-                let k = weighted_counts(&p, &i, &v.unwrap_or_default(), m, &rd, order, pair_limit);
-                side_value(&rd, &k)
-            },
-            || {
+                weighted_counts(
+                    &p,
+                    &i,
+                    &v.unwrap_or_default(),
+                    m,
+                    &rd,
+                    order,
+                    pair_limit,
+                    true,
+                )
+            } else {
+                weighted_counts(&cptr, &cidx, &cval, m, &rd, order, pair_limit, false)
+            };
+            side_value(&rd, &k)
+        },
+        || {
+            let k = if ordered(m) {
                 let ord = degree_order(&cd);
                 let (p, i, v) = transpose_lists(m, &cptr, &cidx, Some(&cval), Some(&ord));
-                let k = weighted_counts(&p, &i, &v.unwrap_or_default(), n, &cd, order, pair_limit);
-                side_value(&cd, &k)
-            },
-        ),
-    };
+                weighted_counts(
+                    &p,
+                    &i,
+                    &v.unwrap_or_default(),
+                    n,
+                    &cd,
+                    order,
+                    pair_limit,
+                    true,
+                )
+            } else {
+                weighted_counts(
+                    csr.indptr(),
+                    csr.indices(),
+                    csr.values(),
+                    n,
+                    &cd,
+                    order,
+                    pair_limit,
+                    false,
+                )
+            };
+            side_value(&cd, &k)
+        },
+    );
     Parts::from_sums("WNODF", m, n, rows, cols)
 }
 
@@ -368,8 +387,9 @@ pub(crate) fn overlaps_given(
 
 /// WNODF counts `k_l = sum over uppers u of #{j : 0 < w_lj < w_uj}` for
 /// every member `l` of the side with `degrees`, from the other side's lists
-/// with weights. In the sorted order each list must hold its members by
-/// decreasing degree; in the given order, ascending.
+/// with weights. In the given order each list holds its members ascending;
+/// in the sorted order, by decreasing degree when `by_degree`, else in any
+/// order (long lists are then sorted here).
 fn weighted_counts<T: Weight>(
     ptr: &[usize],
     idx: &[u32],
@@ -378,6 +398,7 @@ fn weighted_counts<T: Weight>(
     degrees: &[usize],
     order: Order,
     pair_limit: usize,
+    by_degree: bool,
 ) -> Vec<u64> {
     struct Scratch<T> {
         entries: Vec<(usize, usize, T)>, // (degree, member, weight)
@@ -411,8 +432,12 @@ fn weighted_counts<T: Weight>(
             );
             s.hits.clear();
             s.hits.resize(k, 0);
+            let long = order == Order::Sorted && k > pair_limit;
+            if long && !by_degree {
+                s.entries.sort_by_key(|x| std::cmp::Reverse(x.0));
+            }
             let e = &s.entries;
-            if order == Order::Given || k <= pair_limit {
+            if !long {
                 for b in 0..k {
                     let (db, _, wb) = e[b];
                     for a in 0..b {
@@ -431,13 +456,13 @@ fn weighted_counts<T: Weight>(
                 // from a Fenwick tree over the list's weight ranks.
                 debug_assert!(e.windows(2).all(|p| p[0].0 >= p[1].0));
                 s.distinct.clear();
-                s.distinct.extend_from_slice(weights);
+                s.distinct.extend(e.iter().map(|x| x.2));
                 s.distinct.sort_unstable_by(cmp);
                 s.distinct.dedup_by(|a, b| a == b);
                 s.ranks.clear();
                 let d = &s.distinct;
                 s.ranks
-                    .extend(weights.iter().map(|w| d.partition_point(|x| x <= w)));
+                    .extend(e.iter().map(|x| d.partition_point(|y| *y <= x.2)));
                 s.fen.reset(d.len());
                 let mut p = 0;
                 while p < k {
@@ -502,6 +527,27 @@ mod tests {
                 let b = wnodf_csr_with(&csr, order, usize::MAX).unwrap();
                 assert_eq!(a, b, "seed {seed} {order}");
             }
+            // Long lists met unsorted (sorted here) or delivered by degree.
+            let (p, i, v) =
+                transpose_lists(n, csr.indptr(), csr.indices(), Some(csr.values()), None);
+            let v = v.unwrap();
+            let ord = degree_order(&rd);
+            let (po, io, vo) = transpose_lists(
+                n,
+                csr.indptr(),
+                csr.indices(),
+                Some(csr.values()),
+                Some(&ord),
+            );
+            let vo = vo.unwrap();
+            let s = Order::Sorted;
+            let pairs = weighted_counts(&p, &i, &v, m, &rd, s, usize::MAX, false);
+            assert_eq!(weighted_counts(&p, &i, &v, m, &rd, s, 0, false), pairs);
+            assert_eq!(weighted_counts(&po, &io, &vo, m, &rd, s, 0, true), pairs);
+            assert_eq!(
+                weighted_counts(&po, &io, &vo, m, &rd, s, usize::MAX, true),
+                pairs
+            );
             let a = overlaps_given(csc.indptr(), csc.indices(), m, &rd, 0);
             let b = overlaps_given(csc.indptr(), csc.indices(), m, &rd, usize::MAX);
             assert_eq!(a, b, "seed {seed}");
