@@ -205,3 +205,36 @@ fn thread_count_and_sparse_twin_blocks() {
     let t = largest_singular_value(&twin).unwrap();
     assert!(rel(t, a1) < 1e-10, "{t} vs {a1}");
 }
+
+/// The n x n upper bidiagonal matrix of ones (a chain of species, each
+/// sharing a partner with the next) has singular values
+/// `2 cos(j pi / (2n + 1))`, j = 1..n (from memory; checked here against
+/// nalgebra at n = 60). Its top is a near-continuum, the slowest case for
+/// Lanczos: n = 500 runs past the restarted phase into the long one.
+#[test]
+fn chain_closed_form() {
+    let chain = |n: usize| {
+        let cells: Vec<(u32, u32, f64)> = (0..n)
+            .flat_map(|i| (i..(i + 2).min(n)).map(move |j| (i as u32, j as u32, 1.0)))
+            .collect();
+        Csr::from_triplets(n, n, cells)
+    };
+    let closed = |n: usize| 2.0 * (std::f64::consts::PI / (2 * n + 1) as f64).cos();
+    let w60 = Array2::from_shape_fn((60, 60), |(i, j)| (j == i || j == i + 1) as u8 as f64);
+    assert!(rel(svd_top(&w60), closed(60)) < 1e-12);
+    for n in [60, 500] {
+        let s = largest_singular_value(&chain(n)).unwrap();
+        assert!(rel(s, closed(n)) < 1e-10, "n={n}: {s} vs {}", closed(n));
+    }
+}
+
+/// A band of width 3 (turnover along a gradient), 250 species a side:
+/// agreement with nalgebra's SVD.
+#[test]
+fn band_agrees_with_svd() {
+    let n = 250;
+    let w = Array2::from_shape_fn((n, n), |(i, j)| (j >= i && j < i + 3) as u8 as f64);
+    let s = spectral_radius(&Network::from_array(w.clone()).unwrap()).unwrap();
+    let want = svd_top(&w);
+    assert!(rel(s.binary, want) < 1e-10, "{} vs {want}", s.binary);
+}
