@@ -199,6 +199,9 @@ type PanelFn = unsafe fn(&[u64], &[u64], &mut [u64; PANEL]);
 pub struct PanelKernel {
     path: PopcountPath,
     f: PanelFn,
+    /// For rows shorter than one vector (fewer than 8 words), where the
+    /// vector paths' set-up costs more than it saves.
+    short: PanelFn,
 }
 
 impl std::fmt::Debug for PanelKernel {
@@ -228,7 +231,12 @@ impl PanelKernel {
         } else {
             PopcountPath::Portable
         };
-        PanelKernel { path, f }
+        let short = match path {
+            #[cfg(target_arch = "x86_64")]
+            PopcountPath::Avx2 | PopcountPath::Avx512 => panel_popcnt,
+            _ => f,
+        };
+        PanelKernel { path, f, short }
     }
 
     /// The path actually used.
@@ -239,10 +247,12 @@ impl PanelKernel {
     /// See [`panel_overlaps`].
     #[inline]
     pub fn run(&self, upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+        let f = if upper.len() < 8 { self.short } else { self.f };
         // SAFETY: `new` stored a target-feature function only after checking
-        // that the CPU supports its features; the functions themselves only
-        // read within the slices they are given.
-        unsafe { (self.f)(upper, lowers, out) }
+        // that the CPU supports its features (the AVX paths imply popcnt:
+        // `is_available` checks it); the functions only read within the
+        // slices they are given.
+        unsafe { f(upper, lowers, out) }
     }
 }
 

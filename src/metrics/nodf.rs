@@ -70,10 +70,16 @@ pub fn nodf_bits(b: &BitMatrix, order: Order) -> Result<Nodf> {
 /// timing.
 pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result<Nodf> {
     let t = b.transpose();
-    let (rows, cols) = rayon::join(
-        || side_value(b, &upper_overlaps_with(b, order, path)),
-        || side_value(&t, &upper_overlaps_with(&t, order, path)),
-    );
+    let side = |x: &BitMatrix| {
+        let d = degrees_with(x, path);
+        side_value(&d, &upper_overlaps_with(x, &d, order, path))
+    };
+    // Small matrices (null-model draws) skip the thread hand-off.
+    let (rows, cols) = if (b.nrows() as u128) * (b.ncols() as u128) < SMALL {
+        (side(b), side(&t))
+    } else {
+        rayon::join(|| side(b), || side(&t))
+    };
     Parts::from_sums("NODF", b.nrows(), b.ncols(), rows, cols)
 }
 
@@ -84,12 +90,13 @@ pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result
 /// order, so the value does not depend on the number of threads.
 #[allow(dead_code)] // the per-side sum other indices (null tests, contributions) reuse
 pub(crate) fn side_sum(b: &BitMatrix, order: Order) -> f64 {
-    side_value(b, &upper_overlaps(b, order))
+    let path = PopcountPath::detect();
+    let d = degrees_with(b, path);
+    side_value(&d, &upper_overlaps_with(b, &d, order, path))
 }
 
 /// `sum over rows l with d_l > 0, in row order, of 100 * overlaps[l] / d_l`.
-fn side_value(b: &BitMatrix, overlaps: &[u64]) -> f64 {
-    let degrees = b.row_degrees();
+fn side_value(degrees: &[usize], overlaps: &[u64]) -> f64 {
     degrees
         .iter()
         .zip(overlaps)
@@ -115,21 +122,39 @@ fn side_value(b: &BitMatrix, overlaps: &[u64]) -> f64 {
 /// Given order, `O(m^2 n / 64)`: pairwise popcounts, [`PANEL`] lower rows
 /// per load of an upper row, blocks of 64 lower rows in parallel.
 pub fn upper_overlaps(b: &BitMatrix, order: Order) -> Vec<u64> {
-    upper_overlaps_with(b, order, PopcountPath::detect())
+    let path = PopcountPath::detect();
+    upper_overlaps_with(b, &degrees_with(b, path), order, path)
 }
 
-fn upper_overlaps_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Vec<u64> {
+/// Row degrees on the popcount path.
+fn degrees_with(b: &BitMatrix, path: PopcountPath) -> Vec<usize> {
+    let kernel = PanelKernel::new(path);
+    let mut one = [0u64; PANEL];
+    (0..b.nrows())
+        .map(|i| {
+            kernel.run(b.row(i), b.row(i), &mut one);
+            one[0] as usize
+        })
+        .collect()
+}
+
+fn upper_overlaps_with(
+    b: &BitMatrix,
+    degrees: &[usize],
+    order: Order,
+    path: PopcountPath,
+) -> Vec<u64> {
     match order {
-        Order::Sorted => overlaps_sorted(b, path),
-        Order::Given => overlaps_given(b, path),
+        Order::Sorted => overlaps_sorted(b, degrees, path),
+        Order::Given => overlaps_given(b, degrees, path),
     }
 }
 
-fn overlaps_sorted(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
+fn overlaps_sorted(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<u64> {
     let m = b.nrows();
     let words = b.words_per_row();
     let kernel = PanelKernel::new(path);
-    let degrees = b.row_degrees();
+
     let ord = degree_order(&degrees);
     // Tie groups as ranges of `ord`.
     let mut groups = Vec::new();
@@ -203,17 +228,20 @@ fn overlaps_sorted(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
     total
 }
 
+/// Matrices with fewer cells than this are handled on the calling thread.
+const SMALL: u128 = 1 << 18;
+
 /// Lower rows per parallel task in the given order (eight panels).
 const BLOCK: usize = 8 * PANEL;
 
-fn overlaps_given(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
+fn overlaps_given(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<u64> {
     let m = b.nrows();
     let w = b.words_per_row();
-    let degrees = b.row_degrees();
+
     let words = b.as_words();
     let kernel = PanelKernel::new(path);
     let mut ov = vec![0u64; m];
-    ov.par_chunks_mut(BLOCK).enumerate().for_each(|(blk, out)| {
+    let block = |(blk, out): (usize, &mut [u64])| {
         let l0 = blk * BLOCK;
         let l1 = l0 + out.len();
         let min_deg = degrees[l0..l1].iter().copied().min().unwrap_or(0);
@@ -240,7 +268,12 @@ fn overlaps_given(b: &BitMatrix, path: PopcountPath) -> Vec<u64> {
                 p0 = p1;
             }
         }
-    });
+    };
+    if (m as u128) * (w as u128) * 64 < SMALL {
+        ov.chunks_mut(BLOCK).enumerate().for_each(block);
+    } else {
+        ov.par_chunks_mut(BLOCK).enumerate().for_each(block);
+    }
     ov
 }
 
