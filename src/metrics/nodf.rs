@@ -155,7 +155,7 @@ fn overlaps_sorted(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<
     let words = b.words_per_row();
     let kernel = PanelKernel::new(path);
 
-    let ord = degree_order(&degrees);
+    let ord = degree_order(degrees);
     // Tie groups as ranges of `ord`.
     let mut groups = Vec::new();
     let mut p = 0;
