@@ -21,6 +21,7 @@ pub mod bits;
 pub mod error;
 pub mod index;
 pub mod io;
+pub mod kernels;
 pub mod measure;
 pub mod metrics;
 pub mod network;

@@ -510,23 +510,31 @@ impl<T: Weight> Network<T> {
     pub fn binary(&self) -> Result<BitMatrix> {
         let (m, n) = (self.nrows(), self.ncols());
         check_dense_size("the bit-packed binary view", m, n, 0)?;
-        let mut b = BitMatrix::zeros(m, n);
-        match &self.cells {
-            Cells::Dense(w) => {
-                for ((i, j), x) in w.indexed_iter() {
-                    if !x.is_zero() {
-                        b.set(i, j, true);
+        let b = match &self.cells {
+            // Whole words at a time, rows in parallel.
+            Cells::Dense(w) => BitMatrix::from_row_fn(m, n, |i, words| {
+                let row = w.row(i);
+                match row.as_slice() {
+                    Some(cells) => crate::kernels::pack::pack_row(cells, words),
+                    None => {
+                        for (j, c) in row.iter().enumerate() {
+                            if !c.is_zero() {
+                                words[j / 64] |= 1 << (j % 64);
+                            }
+                        }
                     }
                 }
-            }
+            }),
             Cells::Sparse(c) => {
+                let mut b = BitMatrix::zeros(m, n);
                 for i in 0..m {
                     for &j in c.row(i).0 {
                         b.set(i, j as usize, true);
                     }
                 }
+                b
             }
-        }
+        };
         Ok(b)
     }
     /// The network with rows and columns swapped.

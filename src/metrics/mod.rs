@@ -8,11 +8,14 @@ use crate::error::Error;
 
 pub mod discrepancy;
 pub mod nodf;
+pub mod sparse;
+pub mod spectral;
 pub mod temperature;
 pub mod wnodf;
 
 pub use discrepancy::{discrepancy, discrepancy_of_bits};
 pub use nodf::{nodf, nodf_bits, Nodf};
+pub use spectral::{spectral_radius, SpectralRadius};
 pub use temperature::{
     isocline_area, isocline_p, temperature, temperature_of_bits, Temperature, TemperatureOptions,
 };
@@ -106,46 +109,4 @@ impl Parts {
             cols: (pc > 0).then(|| col_sum / pc as f64),
         })
     }
-}
-
-/// For the side whose degrees are given, calls `visit(lower, uppers)` for
-/// every member with at least one upper partner, where the uppers are the
-/// members that precede it in `order` with a strictly larger degree. Lower
-/// members of degree 0 are skipped (their pairs count 0). Returns the visit
-/// results in lower-member order of `0..len`.
-///
-/// With [`Order::Sorted`] the uppers of `l` are all members with larger
-/// degree; with [`Order::Given`] the members before `l` in input order with
-/// larger degree.
-pub(crate) fn upper_sets(degrees: &[usize], order: Order) -> Vec<(usize, Vec<usize>)> {
-    let m = degrees.len();
-    let mut out = Vec::new();
-    match order {
-        Order::Sorted => {
-            let ord = degree_order(degrees);
-            let mut start_of_tie = 0;
-            for p in 0..m {
-                if p > 0 && degrees[ord[p]] != degrees[ord[p - 1]] {
-                    start_of_tie = p;
-                }
-                let l = ord[p];
-                if degrees[l] > 0 && start_of_tie > 0 {
-                    out.push((l, ord[..start_of_tie].to_vec()));
-                }
-            }
-            out.sort_by_key(|(l, _)| *l);
-        }
-        Order::Given => {
-            for l in 0..m {
-                if degrees[l] == 0 {
-                    continue;
-                }
-                let ups: Vec<usize> = (0..l).filter(|&u| degrees[u] > degrees[l]).collect();
-                if !ups.is_empty() {
-                    out.push((l, ups));
-                }
-            }
-        }
-    }
-    out
 }

@@ -1,0 +1,111 @@
+//! Scale benchmarks: NODF of dense and sparse networks, WNODF and the
+//! spectral radius of sparse ones. Inputs are seeded random networks built
+//! before timing; each iteration computes the value from the in-memory
+//! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
+//!
+//! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
+//! timings of the general-purpose route (numpy / scipy) on the same shapes:
+//! `python3 benches/reference/scale_reference.py`.
+
+use std::time::Duration;
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
+use ndarray::Array2;
+use nidus::metrics::{nodf, spectral_radius, wnodf, Order};
+use nidus::Network;
+use rand::{Rng, SeedableRng};
+use rand_xoshiro::Xoshiro256PlusPlus;
+
+/// A dense `m x m` 0/1 network with each cell present with probability `fill`.
+fn dense(m: usize, fill: f64, seed: u64) -> Network<u8> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let w = Array2::from_shape_fn((m, m), |_| (rng.random::<f64>() < fill) as u8);
+    Network::from_array(w).expect("a random dense network has links")
+}
+
+/// An `n x n` network with `10 n` cells drawn uniformly (repeats merged,
+/// so slightly fewer links), weights 1 or uniform in `1..=max_weight`.
+fn sparse(n: usize, max_weight: u32, seed: u64) -> Network<u32> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let mut cells: Vec<(u32, u32, u32)> = (0..10 * n)
+        .map(|_| {
+            (
+                rng.random_range(0..n as u32),
+                rng.random_range(0..n as u32),
+                rng.random_range(1..=max_weight),
+            )
+        })
+        .collect();
+    cells.sort_unstable_by_key(|&(i, j, _)| (i, j));
+    cells.dedup_by_key(|c| (c.0, c.1));
+    let labels = |p: &str| (0..n).map(|k| format!("{p}{k}")).collect::<Vec<_>>();
+    let net = Network::from_triplets(labels("r"), labels("c"), cells).expect("valid cells");
+    assert!(net.is_sparse());
+    net
+}
+
+fn nodf_dense(c: &mut Criterion) {
+    let mut g = c.benchmark_group("nodf_dense");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    let mut sizes = vec![1000, 4000];
+    if std::env::var_os("NIDUS_BENCH_HUGE").is_some() {
+        sizes.push(10_000);
+    }
+    for m in sizes {
+        let net = dense(m, 0.2, 1);
+        g.throughput(Throughput::Elements((m * m) as u64));
+        g.measurement_time(Duration::from_secs(if m >= 10_000 { 20 } else { 4 }));
+        g.bench_with_input(BenchmarkId::from_parameter(m), &net, |b, net| {
+            b.iter(|| nodf(net, Order::Sorted).unwrap().total)
+        });
+    }
+    g.finish();
+    let mut g = c.benchmark_group("nodf_dense_given");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    let net = dense(4000, 0.2, 1);
+    g.throughput(Throughput::Elements(16_000_000));
+    g.bench_with_input(BenchmarkId::from_parameter(4000), &net, |b, net| {
+        b.iter(|| nodf(net, Order::Given).unwrap().total)
+    });
+    g.finish();
+}
+
+fn sparse_kernels(c: &mut Criterion) {
+    let mut g = c.benchmark_group("nodf_sparse");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    for n in [20_000, 100_000] {
+        let net = sparse(n, 1, 2);
+        g.throughput(Throughput::Elements(net.links() as u64));
+        g.bench_with_input(BenchmarkId::from_parameter(n), &net, |b, net| {
+            b.iter(|| nodf(net, Order::Sorted).unwrap().total)
+        });
+    }
+    g.finish();
+    let mut g = c.benchmark_group("wnodf_sparse");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    let net = sparse(100_000, 20, 3);
+    g.throughput(Throughput::Elements(net.links() as u64));
+    g.bench_with_input(BenchmarkId::from_parameter(100_000), &net, |b, net| {
+        b.iter(|| wnodf(net, Order::Sorted).unwrap().total)
+    });
+    g.finish();
+    let mut g = c.benchmark_group("spectral_sparse");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    let net = sparse(100_000, 1, 2);
+    g.throughput(Throughput::Elements(net.links() as u64));
+    g.bench_with_input(BenchmarkId::from_parameter(100_000), &net, |b, net| {
+        b.iter(|| spectral_radius(net).unwrap().binary)
+    });
+    g.finish();
+}
+
+#[allow(missing_docs)]
+mod group {
+    use super::*;
+    criterion_group!(scale, nodf_dense, sparse_kernels);
+}
+criterion_main!(group::scale);
