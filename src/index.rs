@@ -29,6 +29,10 @@ pub enum IndexKind {
     Temperature,
     /// Temperature in the degree-sorted order (no packing search: cheap).
     TemperatureSorted,
+    /// Spectral radius of the binary view.
+    Spectral,
+    /// Spectral radius of the weighted network.
+    SpectralWeighted,
     /// Discrepancy (Brualdi & Sanderson 1999).
     Discrepancy,
 }
@@ -52,6 +56,8 @@ impl IndexKind {
         IndexKind::Wnodf,
         IndexKind::Temperature,
         IndexKind::TemperatureSorted,
+        IndexKind::Spectral,
+        IndexKind::SpectralWeighted,
         IndexKind::Discrepancy,
     ];
 
@@ -64,6 +70,8 @@ impl IndexKind {
             IndexKind::Wnodf => "wnodf",
             IndexKind::Temperature => "temperature",
             IndexKind::TemperatureSorted => "temperature-sorted",
+            IndexKind::Spectral => "spectral",
+            IndexKind::SpectralWeighted => "spectral-weighted",
             IndexKind::Discrepancy => "discrepancy",
         }
     }
@@ -71,9 +79,12 @@ impl IndexKind {
     /// The direction in which the index grows with nestedness.
     pub fn more_nested(self) -> Direction {
         match self {
-            IndexKind::Nodf | IndexKind::NodfRows | IndexKind::NodfCols | IndexKind::Wnodf => {
-                Direction::Greater
-            }
+            IndexKind::Nodf
+            | IndexKind::NodfRows
+            | IndexKind::NodfCols
+            | IndexKind::Wnodf
+            | IndexKind::Spectral
+            | IndexKind::SpectralWeighted => Direction::Greater,
             IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
                 Direction::Less
             }
@@ -83,7 +94,7 @@ impl IndexKind {
     /// True when the index reads weights, so only weighted null models make
     /// sense for it (a binary draw has WNODF 0).
     pub fn needs_weights(self) -> bool {
-        matches!(self, IndexKind::Wnodf)
+        matches!(self, IndexKind::Wnodf | IndexKind::SpectralWeighted)
     }
 }
 
@@ -152,6 +163,8 @@ pub fn evaluate<T: Weight>(kind: IndexKind, net: &Network<T>, opts: &IndexOption
             nodf_part(kind, metrics::nodf(net, opts.order)?)
         }
         IndexKind::Wnodf => Ok(metrics::wnodf(net, opts.order)?.total),
+        IndexKind::Spectral => Ok(metrics::spectral_radius(net)?.binary),
+        IndexKind::SpectralWeighted => Ok(metrics::spectral_radius(net)?.weighted),
         IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
             evaluate_bits(kind, &net.binary()?, opts)
         }
@@ -165,7 +178,7 @@ pub fn evaluate_bits(kind: IndexKind, b: &BitMatrix, opts: &IndexOptions) -> Res
         IndexKind::Nodf | IndexKind::NodfRows | IndexKind::NodfCols => {
             nodf_part(kind, metrics::nodf_bits(b, opts.order)?)
         }
-        IndexKind::Wnodf => Err(Error::InvalidArgument(format!(
+        IndexKind::Wnodf | IndexKind::SpectralWeighted => Err(Error::InvalidArgument(format!(
             "{} reads weights; test it against a weighted null model",
             kind.name()
         ))),
@@ -187,6 +200,7 @@ pub fn evaluate_bits(kind: IndexKind, b: &BitMatrix, opts: &IndexOptions) -> Res
             },
         )?
         .sorted),
+        IndexKind::Spectral => metrics::spectral::spectral_radius_of_bits(b),
         IndexKind::Discrepancy => Ok(metrics::discrepancy_of_bits(b) as f64),
     }
 }

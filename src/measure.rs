@@ -8,7 +8,7 @@ use std::fmt;
 use std::str::FromStr;
 
 use crate::error::{Error, Result};
-use crate::metrics::{self, Order, Parts, Temperature, TemperatureOptions};
+use crate::metrics::{self, Order, Parts, SpectralRadius, Temperature, TemperatureOptions};
 use crate::network::{Network, Weight};
 
 /// A family of indices that `measure` can compute.
@@ -20,6 +20,8 @@ pub enum Family {
     Wnodf,
     /// Temperature in the given, sorted and packed orders.
     Temperature,
+    /// Spectral radius of the weighted network and of its binary view.
+    Spectral,
     /// Discrepancy (Brualdi & Sanderson 1999).
     Discrepancy,
 }
@@ -30,6 +32,7 @@ impl Family {
         Family::Nodf,
         Family::Wnodf,
         Family::Temperature,
+        Family::Spectral,
         Family::Discrepancy,
     ];
 
@@ -39,7 +42,16 @@ impl Family {
             Family::Nodf => "nodf",
             Family::Wnodf => "wnodf",
             Family::Temperature => "temperature",
+            Family::Spectral => "spectral",
             Family::Discrepancy => "discrepancy",
+        }
+    }
+
+    /// Key of the family's entry in JSON output.
+    pub fn key(self) -> &'static str {
+        match self {
+            Family::Spectral => "spectral_radius",
+            f => f.name(),
         }
     }
 }
@@ -118,6 +130,8 @@ pub struct Measurement {
     pub wnodf: Option<Parts>,
     /// Temperature (Atmar & Patterson 1993); its orders are input positions.
     pub temperature: Option<Temperature>,
+    /// Spectral radius (Staniczenko, Kopp & Allesina 2013).
+    pub spectral_radius: Option<SpectralRadius>,
     /// Discrepancy (Brualdi & Sanderson 1999).
     pub discrepancy: Option<usize>,
 }
@@ -155,6 +169,11 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
     } else {
         None
     };
+    let spectral_radius = if opts.wants(Family::Spectral) {
+        Some(metrics::spectral_radius(net)?)
+    } else {
+        None
+    };
     let discrepancy = if opts.wants(Family::Discrepancy) {
         Some(metrics::discrepancy(net)?)
     } else {
@@ -170,6 +189,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         nodf,
         wnodf,
         temperature,
+        spectral_radius,
         discrepancy,
     })
 }

@@ -89,6 +89,11 @@ impl Table {
                     "temperature_packed",
                     "isocline_p",
                 ]),
+                Family::Spectral => cols.extend([
+                    "spectral_weighted",
+                    "spectral_binary",
+                    "spectral_binary_normalized",
+                ]),
                 Family::Discrepancy => cols.push("discrepancy"),
             }
         }
@@ -119,9 +124,12 @@ impl Table {
                 Family::Nodf => parts_json(m.nodf),
                 Family::Wnodf => parts_json(m.wnodf),
                 Family::Temperature => temperature_json(m, labels),
+                Family::Spectral => m.spectral_radius.map_or(Value::Null, |r| {
+                    json!({"weighted": r.weighted, "binary": r.binary, "binary_normalized": r.binary_normalized})
+                }),
                 Family::Discrepancy => m.discrepancy.map_or(Value::Null, Value::from),
             };
-            o.insert(f.name().into(), v);
+            o.insert(f.key().into(), v);
         }
         Value::Object(o)
     }
@@ -154,6 +162,14 @@ impl Table {
                         csv_num(t.map(|t| t.sorted)),
                         csv_num(t.and_then(|t| t.packed)),
                         csv_num(t.map(|t| t.isocline_p)),
+                    ])
+                }
+                Family::Spectral => {
+                    let r = m.spectral_radius;
+                    cells.extend([
+                        csv_num(r.map(|r| r.weighted)),
+                        csv_num(r.map(|r| r.binary)),
+                        csv_num(r.map(|r| r.binary_normalized)),
                     ])
                 }
                 Family::Discrepancy => {
@@ -206,6 +222,19 @@ impl Table {
                         s += &format!(
                             "  temperature  {packed} packed, {:.2} sorted, {:.2} given   (isocline p {:.3}; lower is more nested)\n",
                             t.sorted, t.given, t.isocline_p
+                        );
+                    }
+                }
+                Family::Spectral => {
+                    if let Some(r) = m.spectral_radius {
+                        let weighted = if m.weighted {
+                            format!("weighted {:.4}, ", r.weighted)
+                        } else {
+                            String::new()
+                        };
+                        s += &format!(
+                            "  spectral     radius {weighted}binary {:.4}   (binary / sqrt(links) {:.4})\n",
+                            r.binary, r.binary_normalized
                         );
                     }
                 }

@@ -348,7 +348,7 @@ fn run_inner<T: Weight>(
         }
     };
     let ids: Vec<u64> = (0..config.draws as u64)
-        .filter(|&k| config.shard.map_or(true, |s| s.contains(k)))
+        .filter(|&k| config.shard.is_none_or(|s| s.contains(k)))
         .collect();
     let mut draw_ids = Vec::with_capacity(ids.len());
     let mut values = Vec::with_capacity(ids.len());
