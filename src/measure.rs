@@ -162,7 +162,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
     let temperature = if opts.wants(Family::Temperature) {
         Some(metrics::temperature(net, &opts.temperature).map_err(|e| match e {
             Error::TooLarge { .. } => Error::InvalidArgument(format!(
-                "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,discrepancy)"
+                "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
             )),
             e => e,
         })?)

@@ -75,3 +75,64 @@ fn davis_table_reads_and_nodf_matches_the_slow_reference() {
         println!("{order}: {fast:?}");
     }
 }
+
+/// Every index of `measure` on the Davis table; the spectral radius equals
+/// the largest singular value from nalgebra's SVD (a general-purpose
+/// linear-algebra library; METHODS.md §3: rho of the bipartite adjacency is
+/// the largest singular value of W), and the isocline and temperature
+/// obey their published bounds.
+#[test]
+fn davis_table_every_index() {
+    use nidus::measure::{measure, MeasureOptions};
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/davis_southern_women.csv");
+    let net = read_network(&path, &ReadOptions::default()).unwrap();
+    let m = measure(&net, &MeasureOptions::default()).unwrap();
+    assert!(
+        m.nodf.is_some() && m.wnodf.is_none(),
+        "binary table: WNODF not reported"
+    );
+
+    let w = nalgebra::DMatrix::from_fn(18, 14, |i, j| net.get(i, j));
+    let sigma = w.singular_values().max();
+    let r = m.spectral_radius.unwrap();
+    assert!(
+        (r.binary - sigma).abs() <= 1e-9 * sigma,
+        "{} vs {sigma}",
+        r.binary
+    );
+    assert_eq!(r.weighted, r.binary);
+    // sqrt(max degree) <= rho <= sqrt(L) (METHODS.md §3).
+    let max_deg = *net
+        .row_degrees()
+        .iter()
+        .chain(net.col_degrees())
+        .max()
+        .unwrap() as f64;
+    assert!(max_deg.sqrt() <= r.binary && r.binary <= 89f64.sqrt());
+    assert!((r.binary_normalized - r.binary / 89f64.sqrt()).abs() < 1e-15);
+
+    let t = m.temperature.unwrap();
+    let packed = t.packed.unwrap();
+    assert!(packed <= t.sorted + 1e-12 && packed >= 0.0);
+    // Fill 89/252 < 1/2, so the isocline bends beyond the anti-diagonal: p > 1
+    // (METHODS.md §4: area decreasing in p, p = 1 at fill 1/2).
+    assert!(t.isocline_p > 1.0);
+    let mut rows = t.row_order.clone();
+    rows.sort_unstable();
+    assert_eq!(rows, (0..18).collect::<Vec<_>>());
+
+    // Discrepancy from METHODS.md §5, counted here: columns by decreasing
+    // degree (stable), ones of row i at positions >= d_i.
+    let cd = net.col_degrees();
+    let mut cols: Vec<usize> = (0..14).collect();
+    cols.sort_by_key(|&j| std::cmp::Reverse(cd[j]));
+    let brute: usize = (0..18)
+        .map(|i| {
+            let d = net.row_degrees()[i];
+            (0..14)
+                .filter(|&p| p >= d && net.get(i, cols[p]) > 0.0)
+                .count()
+        })
+        .sum();
+    assert_eq!(m.discrepancy, Some(brute));
+}
