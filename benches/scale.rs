@@ -2,6 +2,9 @@
 //! spectral radius of sparse ones. Inputs are seeded random networks built
 //! before timing; each iteration computes the value from the in-memory
 //! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
+//! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
+//! (throughput: draws per second); `temperature_packing/200` one packed
+//! temperature with the default starts.
 //!
 //! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
 //! timings of the general-purpose route (numpy / scipy) on the same shapes:
@@ -11,7 +14,10 @@ use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use ndarray::Array2;
-use nidus::metrics::{nodf, spectral_radius, wnodf, Order};
+use nidus::metrics::{
+    nodf, nodf_bits, spectral_radius, temperature, wnodf, Order, TemperatureOptions,
+};
+use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -103,9 +109,44 @@ fn sparse_kernels(c: &mut Criterion) {
     g.finish();
 }
 
+/// Null draws per second (`fixed-both`, curveball with its default burn-in,
+/// NODF evaluated on each draw) and temperature packing, both at 200 x 200.
+fn null_and_packing(c: &mut Criterion) {
+    let net = dense(200, 0.1, 5);
+    let sampler = NullSampler::new(&net, NullModel::FixedBoth, &NullOptions::default()).unwrap();
+    let mut g = c.benchmark_group("null_fixed_both_nodf");
+    g.sample_size(20).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    g.throughput(Throughput::Elements(1));
+    let mut k = 0u64;
+    g.bench_function(BenchmarkId::from_parameter(200), |b| {
+        b.iter(|| {
+            k += 1;
+            let NullDraw::Binary(d) = sampler.draw(11, k) else {
+                unreachable!("binary model")
+            };
+            nodf_bits(&d, Order::Sorted).unwrap().total
+        })
+    });
+    g.finish();
+
+    let net = dense(200, 0.2, 6);
+    let mut g = c.benchmark_group("temperature_packing");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(5));
+    g.bench_with_input(BenchmarkId::from_parameter(200), &net, |b, net| {
+        b.iter(|| {
+            temperature(net, &TemperatureOptions::default())
+                .unwrap()
+                .packed
+        })
+    });
+    g.finish();
+}
+
 #[allow(missing_docs)]
 mod group {
     use super::*;
-    criterion_group!(scale, nodf_dense, sparse_kernels);
+    criterion_group!(scale, nodf_dense, sparse_kernels, null_and_packing);
 }
 criterion_main!(group::scale);
