@@ -1,17 +1,17 @@
 //! `nidus measure`: every requested index of every file.
 
-use std::io::{self, Write};
+use std::io;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::io::{read_network, EdgeHeader, Layout, ReadOptions};
+use nidus::io::read_network;
 use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
 use nidus::Order;
 
 use super::report::Table;
-use super::{parse_list, Format, List, EXIT_INPUT};
+use super::{emit, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
@@ -21,13 +21,9 @@ pub struct MeasureArgs {
     /// Row and column order for NODF and WNODF: sorted (by decreasing degree) or given (as in the file).
     #[arg(long, default_value = "sorted", value_name = "sorted|given")]
     order: Order,
-    /// File layout: matrix (a table with labels) or edges (one interaction per line).
-    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
-    layout: Layout,
-    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
-    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
-    edge_header: EdgeHeader,
-    /// Indices to compute, comma-separated (default: all).
+    #[command(flatten)]
+    input: LayoutArgs,
+    /// Indices to compute, comma-separated: nodf, wnodf, temperature, spectral, discrepancy (default: all).
     #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>)]
     indices: Option<List<Family>>,
     /// Temperature: random starts of the packing search besides the degree-sorted one.
@@ -42,10 +38,7 @@ pub struct MeasureArgs {
 }
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
-    let read = ReadOptions {
-        layout: args.layout,
-        edge_header: args.edge_header,
-    };
+    let read = args.input.read_options();
     let opts = MeasureOptions {
         order: args.order,
         families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
@@ -59,18 +52,8 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
-    let write = |out: &mut io::StdoutLock<'_>, text: String| -> bool {
-        match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
-            Ok(()) => true,
-            Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
-            Err(e) => {
-                eprintln!("nidus: cannot write the output: {e}");
-                false
-            }
-        }
-    };
     if let Some(h) = table.header() {
-        if !write(&mut out, h) {
+        if !emit(&mut out, &h) {
             return Ok(ExitCode::SUCCESS);
         }
     }
@@ -85,19 +68,13 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         });
         match result {
             Ok(text) => {
-                if !write(&mut out, text) {
+                if !emit(&mut out, &text) {
                     break;
                 }
             }
             Err(e) => {
                 failed += 1;
-                let msg = e.to_string();
-                let shown = file.display().to_string();
-                if msg.starts_with(&shown) {
-                    eprintln!("nidus: {msg}");
-                } else {
-                    eprintln!("nidus: {shown}: {msg}");
-                }
+                report_failure(&file.display().to_string(), &e);
             }
         }
     }

@@ -3,7 +3,10 @@
 
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, ValueEnum};
+use std::io::{self, Write};
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use nidus::io::{EdgeHeader, Layout, ReadOptions};
 
 mod measure;
 mod merge;
@@ -108,4 +111,58 @@ pub fn parse_list<T: std::str::FromStr<Err = nidus::Error> + PartialEq + Copy>(
         out.push(v);
     }
     Ok(List(out))
+}
+
+/// How input files are laid out: shared by every subcommand that reads networks.
+#[derive(Args, Debug, Clone, Copy)]
+pub struct LayoutArgs {
+    /// File layout: matrix (a table with labels) or edges (one interaction per line).
+    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
+    layout: Layout,
+    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
+    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
+    edge_header: EdgeHeader,
+}
+
+impl LayoutArgs {
+    /// The library's reading options.
+    pub fn read_options(self) -> ReadOptions {
+        ReadOptions {
+            layout: self.layout,
+            edge_header: self.edge_header,
+        }
+    }
+}
+
+/// Writes to stdout; false when the reader has gone (a closed pipe, as in
+/// `nidus ... | head`) or on another write error, which is reported.
+pub fn emit(out: &mut impl Write, text: &str) -> bool {
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => true,
+        Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
+        Err(e) => {
+            eprintln!("nidus: cannot write the output: {e}");
+            false
+        }
+    }
+}
+
+/// One CSV field, quoted when it holds a delimiter, quote or line break.
+pub fn csv_field(s: &str) -> String {
+    if s.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}
+
+/// Reports a failure of one file (or file and model) on stderr, naming it
+/// unless the message already starts with it.
+pub fn report_failure(what: &str, e: &nidus::Error) {
+    let msg = e.to_string();
+    if msg.starts_with(what) {
+        eprintln!("nidus: {msg}");
+    } else {
+        eprintln!("nidus: {what}: {msg}");
+    }
 }

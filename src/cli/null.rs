@@ -9,13 +9,14 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::index::IndexKind;
-use nidus::io::{read_network, EdgeHeader, Layout, ReadOptions};
+use nidus::io::read_network;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
 use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
-use super::{parse_list, Format, List, EXIT_INPUT};
+pub use super::emit;
+use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
 
 #[derive(Args, Debug)]
 pub struct NullArgs {
@@ -26,7 +27,8 @@ pub struct NullArgs {
     /// fixed-both, shuffle-cells, shuffle-weights, fixed-totals.
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
-    /// Indices to test, comma-separated (names as in `measure`; nodf-rows and nodf-cols too).
+    /// Indices to test, comma-separated: nodf, nodf-rows, nodf-cols, wnodf, temperature,
+    /// temperature-sorted, spectral, spectral-weighted, discrepancy.
     #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
     index: List<IndexKind>,
     /// Number of null draws R.
@@ -51,27 +53,11 @@ pub struct NullArgs {
     /// Row and column order for NODF and WNODF: sorted or given.
     #[arg(long, default_value = "sorted", value_name = "sorted|given")]
     order: Order,
-    /// File layout: matrix (a table with labels) or edges (one interaction per line).
-    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
-    layout: Layout,
-    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
-    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
-    edge_header: EdgeHeader,
+    #[command(flatten)]
+    input: LayoutArgs,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
-}
-
-/// Writes to stdout; false when the reader has gone (a closed pipe) or on error.
-pub fn emit(out: &mut impl Write, text: &str) -> bool {
-    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
-        Ok(()) => true,
-        Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
-        Err(e) => {
-            eprintln!("nidus: cannot write the output: {e}");
-            false
-        }
-    }
 }
 
 const CSV_COLUMNS: &[&str] = &[
@@ -96,14 +82,6 @@ const CSV_COLUMNS: &[&str] = &[
 /// The CSV header line, for formats that have one.
 pub fn header(format: Format) -> Option<String> {
     (format == Format::Csv).then(|| CSV_COLUMNS.join(",") + "\n")
-}
-
-fn csv_field(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
 }
 
 /// The output for one run (one file and one model, every index).
@@ -264,10 +242,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             binary_models.join(", ")
         )));
     }
-    let read = ReadOptions {
-        layout: args.layout,
-        edge_header: args.edge_header,
-    };
+    let read = args.input.read_options();
     let mut saved = match &args.save_draws {
         Some(p) => Some((
             p.clone(),
@@ -294,7 +269,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             Ok(n) => n,
             Err(e) => {
                 failed += 1;
-                report(&shown, &e);
+                report_failure(&shown, &e);
                 continue;
             }
         };
@@ -318,7 +293,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 Ok(r) => r,
                 Err(e) => {
                     failed += 1;
-                    report(&format!("{shown} ({model})"), &e);
+                    report_failure(&format!("{shown} ({model})"), &e);
                     continue;
                 }
             };
@@ -351,13 +326,4 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         return Ok(ExitCode::from(EXIT_INPUT));
     }
     Ok(ExitCode::SUCCESS)
-}
-
-fn report(what: &str, e: &Error) {
-    let msg = e.to_string();
-    if msg.starts_with(what) {
-        eprintln!("nidus: {msg}");
-    } else {
-        eprintln!("nidus: {what}: {msg}");
-    }
 }

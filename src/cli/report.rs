@@ -6,7 +6,7 @@ use nidus::measure::{Family, MeasureOptions, Measurement};
 use nidus::metrics::Parts;
 use serde_json::{json, Map, Value};
 
-use super::Format;
+use super::{csv_field, Format};
 
 /// Turns measurements into output text, one file at a time.
 pub struct Table {
@@ -47,14 +47,6 @@ fn temperature_json(m: &Measurement, (rows, cols): (&[String], &[String])) -> Va
 
 fn csv_num(x: Option<f64>) -> String {
     x.map_or(String::new(), |v| v.to_string())
-}
-
-fn csv_field(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", s.replace('"', "\"\""))
-    } else {
-        s.to_string()
-    }
 }
 
 fn fmt2(x: Option<f64>) -> String {

@@ -6,7 +6,9 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::io::{read_network, write_matrix, EdgeHeader, Layout, ReadOptions};
+use nidus::io::{read_network, write_matrix};
+
+use super::LayoutArgs;
 use nidus::null::{NullModel, NullOptions, NullSampler};
 use nidus::Error;
 
@@ -30,19 +32,12 @@ pub struct SampleArgs {
     /// Curveball trades per fixed-both draw (default 5 * max(rows, columns)).
     #[arg(long, value_name = "B")]
     burn_in: Option<usize>,
-    /// File layout: matrix (a table with labels) or edges (one interaction per line).
-    #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
-    layout: Layout,
-    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
-    #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
-    edge_header: EdgeHeader,
+    #[command(flatten)]
+    input: LayoutArgs,
 }
 
 pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
-    let read = ReadOptions {
-        layout: args.layout,
-        edge_header: args.edge_header,
-    };
+    let read = args.input.read_options();
     let net = read_network(&args.file, &read)?;
     let sampler = NullSampler::new(
         &net,
