@@ -741,71 +741,55 @@ impl<'a> Packer<'a> {
         (total, rows, cols)
     }
 
-    /// Every order of the rows (Heap's algorithm), each with its best
-    /// columns; strict improvements over `best` only, in enumeration order.
+    /// Every order of the rows, each with its best columns; strict
+    /// improvements over `best` only, in enumeration order.
     fn exhaust_rows(&self, mut best: Candidate) -> Candidate {
-        let m = self.b.nrows();
         let (mut cost, mut work) = (Vec::new(), Workspace::default());
-        let mut rows: Vec<usize> = (0..m).collect();
-        let mut consider = |rows: &[usize], best: &mut Candidate| {
+        for_each_permutation(self.b.nrows(), |rows| {
             let cols = self.best_cols(rows, &mut cost, &mut work);
             let t = self.table.total(self.b, rows, &cols);
             if t < best.0 {
-                *best = (t, rows.to_vec(), cols);
+                best = (t, rows.to_vec(), cols);
             }
-        };
-        consider(&rows, &mut best);
-        let mut c = vec![0usize; m];
-        let mut i = 1;
-        while i < m {
-            if c[i] < i {
-                if i % 2 == 0 {
-                    rows.swap(0, i);
-                } else {
-                    rows.swap(c[i], i);
-                }
-                consider(&rows, &mut best);
-                c[i] += 1;
-                i = 1;
-            } else {
-                c[i] = 0;
-                i += 1;
-            }
-        }
+        });
         best
     }
 
     /// Every order of the columns, each with its best rows.
     fn exhaust_cols(&self, mut best: Candidate) -> Candidate {
-        let n = self.b.ncols();
         let (mut cost, mut work) = (Vec::new(), Workspace::default());
-        let mut cols: Vec<usize> = (0..n).collect();
-        let mut consider = |cols: &[usize], best: &mut Candidate| {
+        for_each_permutation(self.b.ncols(), |cols| {
             let rows = self.best_rows(cols, &mut cost, &mut work);
             let t = self.table.total(self.b, &rows, cols);
             if t < best.0 {
-                *best = (t, rows, cols.to_vec());
+                best = (t, rows, cols.to_vec());
             }
-        };
-        consider(&cols, &mut best);
-        let mut c = vec![0usize; n];
-        let mut i = 1;
-        while i < n {
-            if c[i] < i {
-                if i % 2 == 0 {
-                    cols.swap(0, i);
-                } else {
-                    cols.swap(c[i], i);
-                }
-                consider(&cols, &mut best);
-                c[i] += 1;
-                i = 1;
-            } else {
-                c[i] = 0;
-                i += 1;
-            }
-        }
+        });
         best
+    }
+}
+
+/// Calls `visit` on every permutation of `0..k`, starting with the identity
+/// (Heap's algorithm, iterative form: each step is one swap).
+fn for_each_permutation(k: usize, mut visit: impl FnMut(&[usize])) {
+    let mut p: Vec<usize> = (0..k).collect();
+    visit(&p);
+    let mut c = vec![0usize; k];
+    let mut i = 1;
+    while i < k {
+        if c[i] < i {
+            if i % 2 == 0 {
+                p.swap(0, i);
+            } else {
+                p.swap(c[i], i);
+            }
+            visit(&p);
+            c[i] += 1;
+            i = 1;
+        } else {
+            c[i] = 0;
+            i += 1;
+        }
     }
 }
 
