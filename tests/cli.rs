@@ -3,41 +3,11 @@
 
 mod common;
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::path::Path;
 
 use common::*;
 use rand::Rng;
 use serde_json::Value;
-
-fn nidus(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_nidus"))
-        .args(args)
-        .output()
-        .expect("run nidus")
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("nidus-cli-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir.join(name)
-}
-
-fn write_matrix(path: &Path, w: &Mat) {
-    let mut s = String::from("species");
-    for j in 0..w[0].len() {
-        s += &format!(",c{j}");
-    }
-    s.push('\n');
-    for (i, row) in w.iter().enumerate() {
-        s += &format!("r{i}");
-        for x in row {
-            s += &format!(",{x}");
-        }
-        s.push('\n');
-    }
-    std::fs::write(path, s).unwrap();
-}
 
 fn num(v: &Value) -> Option<f64> {
     v.as_f64()
@@ -58,7 +28,7 @@ fn json_matches_reference_on_random_files() {
             continue;
         }
         let p = scratch(&format!("rand{}.csv", files.len()));
-        write_matrix(&p, &w);
+        write_matrix_file(&p, &w);
         files.push(p.display().to_string());
         mats.push(w);
     }
@@ -119,7 +89,7 @@ fn json_matches_reference_on_random_files() {
 #[test]
 fn one_bad_file_among_good_ones() {
     let good = scratch("good.csv");
-    write_matrix(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
+    write_matrix_file(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
     let missing = scratch("does-not-exist.csv");
     let out = nidus(&[
         "measure",
@@ -141,7 +111,7 @@ fn one_bad_file_among_good_ones() {
 #[test]
 fn bad_options_exit_2() {
     let good = scratch("opts.csv");
-    write_matrix(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
+    write_matrix_file(&good, &vec![vec![1.0, 1.0], vec![1.0, 0.0]]);
     let g = good.to_str().unwrap();
     for args in [
         vec!["measure", g, "--indices", "nonsense"],
@@ -167,7 +137,7 @@ fn bad_options_exit_2() {
 fn thread_count_does_not_change_output() {
     let mut rng = rng(5);
     let p = scratch("threads.csv");
-    write_matrix(&p, &random_matrix(&mut rng, 40, 60, 0.3, 9));
+    write_matrix_file(&p, &random_matrix(&mut rng, 40, 60, 0.3, 9));
     let f = p.to_str().unwrap();
     let a = nidus(&["measure", "--format", "json", "--threads", "1", f]);
     let b = nidus(&["measure", "--format", "json", "--threads", "2", f]);
@@ -180,7 +150,7 @@ fn thread_count_does_not_change_output() {
 #[test]
 fn weighted_index_needs_weighted_model() {
     let p = scratch("weighted.csv");
-    write_matrix(&p, &vec![vec![3.0, 1.0], vec![1.0, 0.0]]);
+    write_matrix_file(&p, &vec![vec![3.0, 1.0], vec![1.0, 0.0]]);
     let out = nidus(&[
         "null",
         p.to_str().unwrap(),

@@ -5,42 +5,12 @@
 
 mod common;
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::path::Path;
 
 use common::*;
 use nidus::index::IndexKind;
 use nidus::null::{merge_runs, parse_draws, run_null, NullConfig, NullModel, SavedRun, Shard};
 use nidus::Network;
-
-fn nidus(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_nidus"))
-        .args(args)
-        .output()
-        .expect("run nidus")
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("nidus-null-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir.join(name)
-}
-
-fn write_csv(path: &Path, w: &Mat) {
-    let mut s = String::from("species");
-    for j in 0..w[0].len() {
-        s += &format!(",c{j}");
-    }
-    s.push('\n');
-    for (i, row) in w.iter().enumerate() {
-        s += &format!("r{i}");
-        for x in row {
-            s += &format!(",{x}");
-        }
-        s.push('\n');
-    }
-    std::fs::write(path, s).unwrap();
-}
 
 fn test_network(seed: u64, m: usize, n: usize) -> (Mat, Network<f64>) {
     let mut r = rng(seed);
@@ -177,8 +147,8 @@ fn binary_is_byte_identical_across_threads_and_shards() {
     let (w1, _) = test_network(7, 10, 13);
     let (w2, _) = test_network(8, 15, 9);
     let (f1, f2) = (scratch("one.csv"), scratch("two.csv"));
-    write_csv(&f1, &w1);
-    write_csv(&f2, &w2);
+    write_matrix_file(&f1, &w1);
+    write_matrix_file(&f2, &w2);
     let (f1, f2) = (f1.to_str().unwrap(), f2.to_str().unwrap());
     for format in ["text", "json", "csv"] {
         let base = [
@@ -232,7 +202,7 @@ fn binary_is_byte_identical_across_threads_and_shards() {
 fn json_keys_and_bad_input() {
     let (w, _) = test_network(9, 8, 8);
     let f = scratch("keys.csv");
-    write_csv(&f, &w);
+    write_matrix_file(&f, &w);
     let f = f.to_str().unwrap();
     let o = nidus(&[
         "null",
@@ -337,7 +307,7 @@ fn json_keys_and_bad_input() {
 fn sample_writes_null_networks() {
     let (w, _) = test_network(10, 7, 9);
     let f = scratch("s.csv");
-    write_csv(&f, &w);
+    write_matrix_file(&f, &w);
     let dir = scratch("samples");
     let o = nidus(&[
         "sample",
@@ -400,7 +370,7 @@ fn sample_writes_null_networks() {
 fn binary_sequential_stop() {
     let (w, _) = test_network(11, 12, 12);
     let f = scratch("stop.csv");
-    write_csv(&f, &w);
+    write_matrix_file(&f, &w);
     let f = f.to_str().unwrap();
     let run = |t: &str| {
         nidus(&[

@@ -2,6 +2,9 @@
 //! straight from ../shared/METHODS.md, and seeded random matrices.
 #![allow(dead_code)]
 
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
@@ -98,4 +101,40 @@ pub fn reference_nodf(w: &Mat, sorted: bool, weighted: bool) -> (f64, Option<f64
     let (pr, pc) = ((m * (m - 1) / 2) as f64, (n * (n - 1) / 2) as f64);
     let part = |s: f64, p: f64| if p > 0.0 { Some(s / p) } else { None };
     ((sr + sc) / (pr + pc), part(sr, pr), part(sc, pc))
+}
+
+/// Runs the `nidus` binary built for the tests.
+pub fn nidus(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_nidus"))
+        .args(args)
+        .output()
+        .expect("run nidus")
+}
+
+/// A path in a scratch folder of this test binary and process.
+pub fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!(
+        "nidus-{}-{}",
+        env!("CARGO_CRATE_NAME"),
+        std::process::id()
+    ));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+/// Writes `w` in the matrix layout with labels `r0..`, `c0..`.
+pub fn write_matrix_file(path: &Path, w: &Mat) {
+    let mut s = String::from("species");
+    for j in 0..w[0].len() {
+        s += &format!(",c{j}");
+    }
+    s.push('\n');
+    for (i, row) in w.iter().enumerate() {
+        s += &format!("r{i}");
+        for x in row {
+            s += &format!(",{x}");
+        }
+        s.push('\n');
+    }
+    std::fs::write(path, s).unwrap();
 }
