@@ -110,3 +110,16 @@ impl Parts {
         })
     }
 }
+
+/// Element-wise sum of per-task integer counts (exact, so the order of the
+/// tasks does not matter); `m` zeros when there is no task.
+pub(crate) fn add_up(parts: Vec<Vec<u64>>, m: usize) -> Vec<u64> {
+    let mut parts = parts.into_iter();
+    let mut total = parts.next().unwrap_or_else(|| vec![0; m]);
+    for part in parts {
+        for (t, x) in total.iter_mut().zip(part) {
+            *t += x;
+        }
+    }
+    total
+}

@@ -218,14 +218,7 @@ fn overlaps_sorted(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<
             ov
         })
         .collect();
-    let mut parts = parts.into_iter();
-    let mut total = parts.next().unwrap_or_else(|| vec![0; m]);
-    for part in parts {
-        for (t, x) in total.iter_mut().zip(part) {
-            *t += x;
-        }
-    }
-    total
+    crate::metrics::add_up(parts, m)
 }
 
 /// Matrices with fewer cells than this are handled on the calling thread.

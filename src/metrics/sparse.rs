@@ -306,14 +306,7 @@ fn per_list<S>(
             acc
         })
         .collect();
-    let mut parts = parts.into_iter();
-    let mut total = parts.next().unwrap_or_else(|| vec![0; m]);
-    for part in parts {
-        for (t, x) in total.iter_mut().zip(part) {
-            *t += x;
-        }
-    }
-    total
+    crate::metrics::add_up(parts, m)
 }
 
 /// A Fenwick (binary indexed) tree of counts over positions `1..=len`.
