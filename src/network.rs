@@ -35,8 +35,14 @@ impl<T> Weight for T where
 }
 
 /// Cells in dense tables are capped at this many before an operation that
-/// needs a dense table refuses (2^31 cells: 16 GiB as `f64`).
+/// needs a dense table refuses (2^31 cells: 256 MiB as bits).
 pub const DENSE_CELL_LIMIT: u128 = 1 << 31;
+
+/// Bytes a dense table may take before an operation refuses it (4 GiB; a
+/// sixth of the memory of the machines nidus is built on, so a mistaken
+/// dense copy of a huge sparse network fails with a message, not an
+/// out-of-memory kill).
+pub const DENSE_BYTE_LIMIT: u128 = 1 << 32;
 
 /// Compressed sparse rows: the non-zero cells of each row, columns ascending.
 #[derive(Clone, Debug, PartialEq)]
@@ -594,7 +600,7 @@ fn check_shape(m: usize, n: usize) -> Result<()> {
 }
 
 /// Errors when a dense `m x n` table of `bytes_per_cell` (0: one bit) would
-/// exceed [`DENSE_CELL_LIMIT`] cells.
+/// exceed [`DENSE_CELL_LIMIT`] cells or [`DENSE_BYTE_LIMIT`] bytes.
 pub fn check_dense_size(
     what: &'static str,
     m: usize,
@@ -602,12 +608,12 @@ pub fn check_dense_size(
     bytes_per_cell: usize,
 ) -> Result<()> {
     let cells = m as u128 * n as u128;
-    if cells > DENSE_CELL_LIMIT {
-        let bytes = if bytes_per_cell == 0 {
-            cells.div_ceil(8)
-        } else {
-            cells * bytes_per_cell as u128
-        };
+    let bytes = if bytes_per_cell == 0 {
+        cells.div_ceil(8)
+    } else {
+        cells * bytes_per_cell as u128
+    };
+    if cells > DENSE_CELL_LIMIT || bytes > DENSE_BYTE_LIMIT {
         return Err(Error::TooLarge {
             what,
             rows: m,
@@ -663,5 +669,18 @@ mod tests {
         assert_eq!(net.col_degrees(), &[1, 1, 0]);
         let t = net.csr().transpose();
         assert_eq!(t.row(1), (&[0u32][..], &[5u32][..]));
+    }
+
+    /// A dense copy of a sparse network is refused by bytes, not only by
+    /// cells: 30,000 x 30,000 is under 2^31 cells but 7.2 GB as f64.
+    #[test]
+    fn dense_copy_of_huge_sparse_network_is_refused() {
+        let labels = |p: &str| (0..30_000).map(|k| format!("{p}{k}")).collect::<Vec<_>>();
+        let net = Network::from_triplets(labels("r"), labels("c"), vec![(0, 0, 1.0f64)]).unwrap();
+        assert!(net.is_sparse());
+        assert!(
+            matches!(net.to_dense(), Err(Error::TooLarge { bytes, .. }) if bytes == 7_200_000_000)
+        );
+        assert!(net.binary().is_ok(), "the bit view is 112 MB and allowed");
     }
 }
