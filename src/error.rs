@@ -113,3 +113,20 @@ pub enum Error {
     #[error("{0}")]
     InvalidArgument(String),
 }
+
+/// The member of `all` whose `name` is `s`, or an error listing every name:
+/// the one parser behind each named choice (orders aside) of the crate.
+pub(crate) fn find_by_name<T: Copy>(
+    s: &str,
+    all: &[T],
+    name: impl Fn(T) -> &'static str,
+    what: &str,
+) -> Result<T> {
+    all.iter().copied().find(|&x| name(x) == s).ok_or_else(|| {
+        let names: Vec<&str> = all.iter().map(|&x| name(x)).collect();
+        Error::InvalidArgument(format!(
+            "unknown {what} '{s}': expected one of {}",
+            names.join(", ")
+        ))
+    })
+}

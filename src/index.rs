@@ -113,17 +113,7 @@ impl fmt::Display for IndexKind {
 impl FromStr for IndexKind {
     type Err = Error;
     fn from_str(s: &str) -> Result<Self> {
-        IndexKind::ALL
-            .iter()
-            .copied()
-            .find(|k| k.name() == s)
-            .ok_or_else(|| {
-                let names: Vec<&str> = IndexKind::ALL.iter().map(|k| k.name()).collect();
-                Error::InvalidArgument(format!(
-                    "unknown index '{s}': expected one of {}",
-                    names.join(", ")
-                ))
-            })
+        crate::error::find_by_name(s, IndexKind::ALL, IndexKind::name, "index")
     }
 }
 

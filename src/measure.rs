@@ -65,17 +65,7 @@ impl fmt::Display for Family {
 impl FromStr for Family {
     type Err = Error;
     fn from_str(s: &str) -> Result<Self> {
-        Family::ALL
-            .iter()
-            .copied()
-            .find(|k| k.name() == s)
-            .ok_or_else(|| {
-                let names: Vec<&str> = Family::ALL.iter().map(|k| k.name()).collect();
-                Error::InvalidArgument(format!(
-                    "unknown index '{s}': expected one of {}",
-                    names.join(", ")
-                ))
-            })
+        crate::error::find_by_name(s, Family::ALL, Family::name, "index")
     }
 }
 

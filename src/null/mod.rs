@@ -154,17 +154,7 @@ impl fmt::Display for NullModel {
 impl FromStr for NullModel {
     type Err = Error;
     fn from_str(s: &str) -> Result<Self> {
-        NullModel::ALL
-            .iter()
-            .copied()
-            .find(|m| m.name() == s)
-            .ok_or_else(|| {
-                let names: Vec<&str> = NullModel::ALL.iter().map(|m| m.name()).collect();
-                Error::InvalidArgument(format!(
-                    "unknown null model '{s}': expected one of {}",
-                    names.join(", ")
-                ))
-            })
+        crate::error::find_by_name(s, NullModel::ALL, NullModel::name, "null model")
     }
 }
 
