@@ -10,6 +10,9 @@
 //! timings of the general-purpose route (numpy / scipy) on the same shapes:
 //! `python3 benches/reference/scale_reference.py`.
 
+#[path = "support/inputs.rs"]
+mod inputs;
+
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
@@ -29,27 +32,11 @@ fn dense(m: usize, fill: f64, seed: u64) -> Network<u8> {
     Network::from_array(w).expect("a random dense network has links")
 }
 
-/// An `n x n` network with `10 n` cells drawn uniformly (repeats merged,
-/// so slightly fewer links), weights 1 or uniform in `1..=max_weight`.
 fn sparse(n: usize, max_weight: u32, seed: u64) -> Network<u32> {
-    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
-    let mut cells: Vec<(u32, u32, u32)> = (0..10 * n)
-        .map(|_| {
-            (
-                rng.random_range(0..n as u32),
-                rng.random_range(0..n as u32),
-                rng.random_range(1..=max_weight),
-            )
-        })
-        .collect();
-    cells.sort_unstable_by_key(|&(i, j, _)| (i, j));
-    cells.dedup_by_key(|c| (c.0, c.1));
-    let labels = |p: &str| (0..n).map(|k| format!("{p}{k}")).collect::<Vec<_>>();
-    let net = Network::from_triplets(labels("r"), labels("c"), cells).expect("valid cells");
+    let net = inputs::sparse(n, max_weight, seed);
     assert!(net.is_sparse());
     net
 }
-
 fn nodf_dense(c: &mut Criterion) {
     let mut g = c.benchmark_group("nodf_dense");
     g.sample_size(10).warm_up_time(Duration::from_secs(1));

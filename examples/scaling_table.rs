@@ -11,6 +11,9 @@
 //! started (the input network). Time is the median of several runs after
 //! one warm-up run.
 
+#[path = "../benches/support/inputs.rs"]
+mod inputs;
+
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::sync::atomic::{AtomicUsize, Ordering::Relaxed};
 use std::time::{Duration, Instant};
@@ -74,23 +77,6 @@ fn dense(m: usize, max_weight: u32, seed: u64) -> Network<u32> {
         }
     });
     Network::from_array(w).expect("links")
-}
-
-fn sparse(n: usize, max_weight: u32, seed: u64) -> Network<u32> {
-    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
-    let mut cells: Vec<(u32, u32, u32)> = (0..10 * n)
-        .map(|_| {
-            (
-                rng.random_range(0..n as u32),
-                rng.random_range(0..n as u32),
-                rng.random_range(1..=max_weight),
-            )
-        })
-        .collect();
-    cells.sort_unstable_by_key(|&(i, j, _)| (i, j));
-    cells.dedup_by_key(|c| (c.0, c.1));
-    let labels = |p: &str| (0..n).map(|k| format!("{p}{k}")).collect::<Vec<_>>();
-    Network::from_triplets(labels("r"), labels("c"), cells).expect("links")
 }
 
 /// Median time and peak extra heap bytes of `f` (one warm-up run, then at
@@ -185,7 +171,7 @@ fn main() {
             sizes: q(vec![25_000, 50_000, 100_000, 200_000, 400_000]),
             theory_time: "m + n + L",
             theory_exp: 1.0,
-            build: |n| sparse(n, 1, 2),
+            build: |n| inputs::sparse(n, 1, 2),
             run: |net| nodf(net, Order::Sorted).unwrap().total,
         },
         Case {
@@ -194,7 +180,7 @@ fn main() {
             sizes: q(vec![25_000, 50_000, 100_000, 200_000, 400_000]),
             theory_time: "L log n",
             theory_exp: 1.0,
-            build: |n| sparse(n, 1, 2),
+            build: |n| inputs::sparse(n, 1, 2),
             run: |net| nodf(net, Order::Given).unwrap().total,
         },
         Case {
@@ -203,7 +189,7 @@ fn main() {
             sizes: q(vec![25_000, 50_000, 100_000, 200_000, 400_000]),
             theory_time: "sum of squared degrees = O(L) here",
             theory_exp: 1.0,
-            build: |n| sparse(n, 20, 3),
+            build: |n| inputs::sparse(n, 20, 3),
             run: |net| wnodf(net, Order::Sorted).unwrap().total,
         },
         Case {
@@ -212,7 +198,7 @@ fn main() {
             sizes: q(vec![25_000, 50_000, 100_000, 200_000, 400_000]),
             theory_time: "k L",
             theory_exp: 1.0,
-            build: |n| sparse(n, 1, 2),
+            build: |n| inputs::sparse(n, 1, 2),
             run: |net| spectral_radius(net).unwrap().binary,
         },
     ];
