@@ -32,11 +32,13 @@ fn dense(m: usize, fill: f64, seed: u64) -> Network<u8> {
     Network::from_array(w).expect("a random dense network has links")
 }
 
+/// The shared sparse input, checked to be stored sparsely.
 fn sparse(n: usize, max_weight: u32, seed: u64) -> Network<u32> {
     let net = inputs::sparse(n, max_weight, seed);
     assert!(net.is_sparse());
     net
 }
+
 fn nodf_dense(c: &mut Criterion) {
     let mut g = c.benchmark_group("nodf_dense");
     g.sample_size(10).warm_up_time(Duration::from_secs(1));
