@@ -16,6 +16,7 @@
 //! ```
 #![warn(missing_docs)]
 
+pub mod analyses;
 pub mod assign;
 pub mod bits;
 pub mod error;
