@@ -32,9 +32,15 @@ fn threads_and_shards_give_the_same_draws() {
     let (_, net) = test_network(4, 14, 11);
     for &model in NullModel::ALL {
         let indices = if model.is_weighted() {
-            vec![IndexKind::Nodf, IndexKind::Wnodf]
+            vec![
+                IndexKind::named("nodf").unwrap(),
+                IndexKind::named("wnodf").unwrap(),
+            ]
         } else {
-            vec![IndexKind::Nodf, IndexKind::NodfRows]
+            vec![
+                IndexKind::named("nodf").unwrap(),
+                IndexKind::named("nodf-rows").unwrap(),
+            ]
         };
         let mut c = NullConfig::new(model, indices, 150, 77);
         c.threads = Some(1);
@@ -69,7 +75,12 @@ fn threads_and_shards_give_the_same_draws() {
 #[test]
 fn sequential_stop_is_deterministic() {
     let (_, net) = test_network(5, 12, 12);
-    let mut c = NullConfig::new(NullModel::FixedRows, vec![IndexKind::Nodf], 2000, 9);
+    let mut c = NullConfig::new(
+        NullModel::FixedRows,
+        vec![IndexKind::named("nodf").unwrap()],
+        2000,
+        9,
+    );
     c.stop_after = Some(10);
     c.threads = Some(1);
     let a = run_null(&net, &c).unwrap();
@@ -103,7 +114,12 @@ fn sequential_stop_is_deterministic() {
 }
 
 fn shard_files(net: &Network<f64>, k: usize) -> Vec<SavedRun> {
-    let mut c = NullConfig::new(NullModel::Equiprobable, vec![IndexKind::Nodf], 40, 3);
+    let mut c = NullConfig::new(
+        NullModel::Equiprobable,
+        vec![IndexKind::named("nodf").unwrap()],
+        40,
+        3,
+    );
     let mut out = Vec::new();
     for i in 1..=k {
         c.shard = Some(Shard::new(i, k).unwrap());

@@ -7,12 +7,12 @@
 //! blocks, i.e. how many ones would have to move within their rows to make
 //! the matrix nested in that column order.
 
-use crate::bits::BitMatrix;
 use crate::error::Result;
 use crate::metrics::degree_order;
-use crate::network::{Network, Weight};
+use crate::metrics::registry::IndexOptions;
+use crate::storage::{BitMatrix, Layout, NetView};
 
-/// Discrepancy of a network's binary view.
+/// Discrepancy of the binary view of any [`NetView`].
 ///
 /// With columns at positions `pos(j)` in decreasing order of degree (ties in
 /// input order), discrepancy `= sum_i #{ j : b_ij = 1, pos(j) >= d_i }`.
@@ -41,11 +41,14 @@ use crate::network::{Network, Weight};
 /// let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [0, 0, 1]]).unwrap();
 /// assert_eq!(discrepancy(&net).unwrap(), 1);
 /// ```
-pub fn discrepancy<T: Weight>(net: &Network<T>) -> Result<usize> {
-    let pos = positions(net.col_degrees());
-    let csr = net.csr();
+pub fn discrepancy<V: NetView + ?Sized>(view: &V) -> Result<usize> {
+    if view.layout() == Layout::Bits {
+        return Ok(discrepancy_of_bits(&*view.bits()?));
+    }
+    let pos = positions(&view.col_degrees());
+    let csr = view.compressed_rows()?;
     let mut count = 0;
-    for (i, &d) in net.row_degrees().iter().enumerate() {
+    for (i, &d) in view.row_degrees().iter().enumerate() {
         count += csr
             .row(i)
             .0
@@ -59,7 +62,7 @@ pub fn discrepancy<T: Weight>(net: &Network<T>) -> Result<usize> {
 /// [`discrepancy`] of a bit-packed binary matrix (null-model draws).
 ///
 /// Cost: `O(m n / 64 + L + n log n)`.
-pub fn discrepancy_of_bits(b: &BitMatrix) -> usize {
+pub(crate) fn discrepancy_of_bits(b: &BitMatrix) -> usize {
     let pos = positions(&b.col_degrees());
     (0..b.nrows())
         .map(|i| {
@@ -67,6 +70,11 @@ pub fn discrepancy_of_bits(b: &BitMatrix) -> usize {
             b.row_ones(i).filter(|&j| pos[j] >= d).count()
         })
         .sum()
+}
+
+/// Registry evaluator of `discrepancy`.
+pub(crate) fn count(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    Ok(discrepancy(v)? as f64)
 }
 
 /// Position of every column in decreasing-degree order (stable).
@@ -82,6 +90,7 @@ fn positions(col_degrees: &[usize]) -> Vec<usize> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::Network;
     use ndarray::Array2;
     use rand::{Rng, SeedableRng};
     use rand_xoshiro::Xoshiro256PlusPlus;

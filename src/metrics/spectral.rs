@@ -51,9 +51,10 @@ use std::borrow::Cow;
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
-use crate::network::{Csr, Network, Weight};
+use crate::metrics::registry::IndexOptions;
+use crate::storage::{BitMatrix, Layout, NetView};
+use crate::storage::{Csr, Weight};
 
 /// Largest Lanczos basis before a restart.
 pub const BASIS: usize = 30;
@@ -79,7 +80,7 @@ pub struct SpectralRadius {
     pub binary_normalized: f64,
 }
 
-/// Spectral radius `rho` of a network: the largest eigenvalue of the
+/// Spectral radius `rho` of any [`NetView`]: the largest eigenvalue of the
 /// adjacency matrix `[[0, W], [W^T, 0]]`, which is the largest singular value
 /// of `W`; for the weighted matrix, for its binary view and for the binary
 /// value divided by `sqrt(L)`. Binary facts: `sqrt(max degree) <= rho <=
@@ -107,9 +108,19 @@ pub struct SpectralRadius {
 /// assert!((s.binary - 6f64.sqrt()).abs() < 1e-12);
 /// assert!((s.binary_normalized - 1.0).abs() < 1e-12);
 /// ```
-pub fn spectral_radius<T: Weight>(net: &Network<T>) -> Result<SpectralRadius> {
-    let csr = net.csr();
-    let (binary, weighted) = if net.is_weighted() {
+pub fn spectral_radius<V: NetView + ?Sized>(view: &V) -> Result<SpectralRadius> {
+    if view.layout() == Layout::Bits {
+        // A binary matrix (a null draw): the pattern listed from the bits.
+        let b = view.bits()?;
+        let binary = spectral_radius_of_bits(&b)?;
+        return Ok(SpectralRadius {
+            weighted: binary,
+            binary,
+            binary_normalized: binary / (b.count_ones() as f64).sqrt(),
+        });
+    }
+    let csr = view.compressed_rows()?;
+    let (binary, weighted) = if view.is_weighted() {
         let lists = Lists::from_csr(&csr);
         let binary = top_singular(&lists, false)?;
         (binary, top_singular(&lists, true)?)
@@ -127,8 +138,18 @@ pub fn spectral_radius<T: Weight>(net: &Network<T>) -> Result<SpectralRadius> {
     Ok(SpectralRadius {
         weighted,
         binary,
-        binary_normalized: binary / (net.links() as f64).sqrt(),
+        binary_normalized: binary / (view.links() as f64).sqrt(),
     })
+}
+
+/// Registry evaluator of `spectral`.
+pub(crate) fn binary(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    Ok(spectral_radius(v)?.binary)
+}
+
+/// Registry evaluator of `spectral-weighted`.
+pub(crate) fn weighted(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    Ok(spectral_radius(v)?.weighted)
 }
 
 /// Largest singular value of a sparse matrix (its weights as `f64`); 0 for a
@@ -146,17 +167,9 @@ pub fn largest_singular_value<T: Weight>(csr: &Csr<T>) -> Result<f64> {
     top_singular(&Lists::from_csr(csr), true)
 }
 
-/// Spectral radius of a binary matrix (its largest singular value), for
-/// null-model draws; 0 when it has no ones. Cost as [`spectral_radius`],
-/// plus `O(m n / 64)` to list the ones.
-///
-/// # Example
-/// ```
-/// use nidus::{metrics::spectral::spectral_radius_of_bits, BitMatrix};
-/// let b = BitMatrix::from_fn(4, 9, |_, _| true);
-/// assert!((spectral_radius_of_bits(&b).unwrap() - 6.0).abs() < 1e-12);
-/// ```
-pub fn spectral_radius_of_bits(b: &BitMatrix) -> Result<f64> {
+/// Largest singular value of a binary matrix; 0 when it has no ones. Cost
+/// as [`spectral_radius`], plus `O(m n / 64)` to list the ones.
+fn spectral_radius_of_bits(b: &BitMatrix) -> Result<f64> {
     let mut indptr = Vec::with_capacity(b.nrows() + 1);
     indptr.push(0);
     let mut indices = Vec::with_capacity(b.count_ones());
@@ -210,7 +223,7 @@ impl<'a> Lists<'a> {
             }
             v
         });
-        let (cptr, cidx, cval) = crate::metrics::sparse::transpose_lists(
+        let (cptr, cidx, cval) = crate::storage::lists::transpose_lists(
             ncols,
             &indptr,
             &indices,
