@@ -27,9 +27,10 @@ pub struct NullArgs {
     /// fixed-both, shuffle-cells, shuffle-weights, fixed-totals.
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
-    /// Indices to test, comma-separated: nodf, nodf-rows, nodf-cols, wnodf, temperature,
-    /// temperature-sorted, spectral, spectral-weighted, discrepancy.
-    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
+    /// Indices to test (the list comes from the registry of indices).
+    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
+          help = format!("Indices to test, comma-separated: {}",
+                         nidus::metrics::registry::names().collect::<Vec<_>>().join(", ")))]
     index: List<IndexKind>,
     /// Number of null draws R.
     #[arg(long, default_value_t = 999, value_name = "R")]

@@ -274,19 +274,24 @@ pub(crate) fn part_of(index: &'static str, name: &str, part: Option<f64>) -> Res
 mod tests {
     use super::*;
 
-    /// Names are unique and every family is one of `measure`'s.
+    /// Names are unique, every family of `measure` has its indices here,
+    /// and each line evaluates through the trait as through its function.
     #[test]
     fn one_table() {
         let mut seen = std::collections::HashSet::new();
         for e in BUILTINS {
             assert!(seen.insert(e.name), "{} twice", e.name);
         }
-        assert_eq!(
-            families(),
-            crate::measure::Family::ALL
-                .iter()
-                .map(|f| f.name())
-                .collect::<Vec<_>>()
-        );
+        for f in crate::measure::Family::ALL {
+            assert!(families().contains(&f.name()), "{f}");
+        }
+        // A staircase (perfectly nested, METHODS.md §1): NODF 100, sorted
+        // temperature 0, discrepancy 0.
+        let w = ndarray::array![[1, 1, 1], [1, 1, 0], [1, 0, 0]];
+        let o = IndexOptions::default();
+        let value = |name: &str| lookup(name).unwrap().with(o).evaluate(&w.view()).unwrap();
+        assert_eq!(value("nodf"), 100.0);
+        assert_eq!(value("temperature-sorted"), 0.0);
+        assert_eq!(value("discrepancy"), 0.0);
     }
 }

@@ -531,7 +531,7 @@ pub(crate) fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> R
     temperature_with_table(b, &table, opts)
 }
 
-/// Largest table (in cells, 2^20: 16 MiB) that [`temperature_of_bits`]
+/// Largest table (in cells, 2^20: 16 MiB) that [`temperature`]
 /// keeps per thread for reuse.
 pub const TABLE_CACHE_CELLS: usize = 1 << 20;
 
@@ -540,9 +540,10 @@ thread_local! {
         const { std::cell::RefCell::new(None) };
 }
 
-/// [`temperature_of_bits`] with a table built beforehand (it must have been
-/// built for the same shape and number of ones, else
-/// [`Error::InvalidArgument`]).
+/// [`temperature`] of a bit matrix with a table built beforehand (it must
+/// have been built for the same shape and number of ones, else
+/// [`Error::InvalidArgument`]). A kernel for timing; not part of the API.
+#[doc(hidden)]
 pub fn temperature_with_table(
     b: &BitMatrix,
     table: &UnexpectednessTable,
