@@ -329,6 +329,20 @@ mod tests {
         assert!(!NetView::is_weighted(&bits));
     }
 
+    /// A network builds its views once: later calls borrow the same ones.
+    #[test]
+    fn network_views_are_cached() {
+        let net = Network::from_array(array![[1.0, 2.0], [0.0, 1.0]]).unwrap();
+        let (a, b) = (net.bits().unwrap(), net.bits().unwrap());
+        assert!(matches!((&a, &b), (Cow::Borrowed(x), Cow::Borrowed(y)) if std::ptr::eq(*x, *y)));
+        let (a, b) = (
+            net.compressed_rows().unwrap(),
+            net.compressed_rows().unwrap(),
+        );
+        assert!(matches!((&a, &b), (Cow::Borrowed(x), Cow::Borrowed(y)) if std::ptr::eq(*x, *y)));
+        assert!(matches!(net.compressed_cols().unwrap(), Cow::Borrowed(_)));
+    }
+
     /// An unvalidated table is checked as a network would be.
     #[test]
     fn array_views_are_validated() {
