@@ -294,4 +294,18 @@ mod tests {
         assert_eq!(value("temperature-sorted"), 0.0);
         assert_eq!(value("discrepancy"), 0.0);
     }
+
+    /// The README's `--index` row lists every index of the table, so the
+    /// table cannot grow without the README.
+    #[test]
+    fn readme_lists_every_index() {
+        let readme = include_str!("../../README.md");
+        let row = readme
+            .lines()
+            .find(|l| l.starts_with("| `--index"))
+            .expect("the README's --index row");
+        for name in names() {
+            assert!(row.contains(&format!("`{name}`")), "README lacks {name}");
+        }
+    }
 }
