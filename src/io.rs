@@ -41,7 +41,7 @@ use std::io::Write;
 use std::path::Path;
 use std::str::FromStr;
 
-use ndarray::Array2;
+use ndarray::{Array2, Axis};
 
 use crate::error::{Error, Result};
 use crate::network::{Network, Weight};
@@ -135,6 +135,54 @@ impl FromStr for EdgeHeader {
     }
 }
 
+/// Which labels a matrix-layout file carries.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Labels {
+    /// [`Labels::None`] when the first line and the first field of every
+    /// line are all numbers (no cell can be a label, not even the corner
+    /// cell, which a labelled table holds a name in or leaves empty), else
+    /// [`Labels::Both`]. The decision for an unlabelled table is reported
+    /// ([`ReadNote::Unlabelled`]).
+    #[default]
+    Auto,
+    /// A header line of column labels and a row label in the first field of
+    /// every line.
+    Both,
+    /// No labels: every field is a value; rows are labelled `r1, r2, ...`
+    /// and columns `c1, c2, ...`.
+    None,
+}
+
+impl Labels {
+    /// The name used on the command line: `auto`, `both` or `none`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Labels::Auto => "auto",
+            Labels::Both => "both",
+            Labels::None => "none",
+        }
+    }
+}
+
+impl fmt::Display for Labels {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Labels {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        crate::error::find_by_name(
+            s,
+            &[Labels::Auto, Labels::Both, Labels::None],
+            Labels::name,
+            "labels setting",
+        )
+    }
+}
+
 /// Options for [`read_network`] and [`parse_network`].
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
 pub struct ReadOptions {
@@ -143,6 +191,154 @@ pub struct ReadOptions {
     /// The first line of an edge list (default [`EdgeHeader::Auto`]);
     /// ignored for the matrix layout.
     pub edge_header: EdgeHeader,
+    /// The labels of a matrix-layout file (default [`Labels::Auto`]);
+    /// ignored for edge lists, whose lines always name both species.
+    pub labels: Labels,
+    /// Keep species without any link (an all-zero row or column, or a
+    /// label seen only on lines of weight 0). Default `false`: they are
+    /// dropped and the drop is reported ([`ReadNote::Dropped`]).
+    pub keep_empty: bool,
+    /// Swap the two sides: the file's columns become the rows.
+    pub transpose: bool,
+}
+
+/// A choice the reader made for a file, or a fact about it that changes what
+/// was read. The library never prints: [`ReadReport`] hands these to the
+/// caller. `Display` gives one sentence without the file name.
+#[derive(Clone, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum ReadNote {
+    /// The first line of an edge list was read as a header
+    /// ([`EdgeHeader::Auto`]).
+    EdgeHeader {
+        /// Its physical line (1-based).
+        line: usize,
+        /// Its fields.
+        words: Vec<String>,
+        /// Which rule decided it.
+        rule: HeaderRule,
+    },
+    /// A matrix-layout file without labels was read as an unlabelled table
+    /// ([`Labels::Auto`]).
+    Unlabelled {
+        /// Rows of the table in the file.
+        rows: usize,
+        /// Columns of the table in the file.
+        cols: usize,
+    },
+    /// Lines end with a carriage return alone (the old Mac convention);
+    /// each was read as a line break.
+    CarriageReturns,
+    /// Species without any link were dropped ([`ReadOptions::keep_empty`]
+    /// is `false`).
+    Dropped {
+        /// `row` or `column` (sides of the network as returned, after any
+        /// transposition).
+        side: &'static str,
+        /// How many were dropped.
+        count: usize,
+        /// The labels of the first few, in file order (at most
+        /// [`ReadNote::LISTED`]).
+        first: Vec<String>,
+    },
+}
+
+/// Why [`EdgeHeader::Auto`] took the first line of an edge list for a
+/// header.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum HeaderRule {
+    /// The line has three fields and the third (the weight) is not a number.
+    WeightNotNumber,
+    /// The line has two fields, neither label appears on any other line
+    /// (in its column), every other line shares a label with some other
+    /// line, and there are at least [`HEADER_MIN_LINES`] lines below it.
+    LabelsAppearOnce,
+}
+
+/// Lines an edge list must have below a two-field first line before
+/// [`EdgeHeader::Auto`] judges whether it is a header (see
+/// [`HeaderRule::LabelsAppearOnce`]); with fewer the file is ambiguous and
+/// reading it is an error asking for [`EdgeHeader::Present`] or
+/// [`EdgeHeader::Absent`].
+pub const HEADER_MIN_LINES: usize = 4;
+
+impl ReadNote {
+    /// How many labels [`ReadNote::Dropped`] lists.
+    pub const LISTED: usize = 5;
+}
+
+impl fmt::Display for ReadNote {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ReadNote::EdgeHeader { line, words, rule } => {
+                let why = match rule {
+                    HeaderRule::WeightNotNumber => "its weight field is not a number",
+                    HeaderRule::LabelsAppearOnce => {
+                        "its labels appear on no other line, while every other line shares a label"
+                    }
+                };
+                write!(
+                    f,
+                    "line {line} read as a header ({}): {why}",
+                    words.join(", ")
+                )
+            }
+            ReadNote::Unlabelled { rows, cols } => write!(
+                f,
+                "no labels found (the first line and the first column are all numbers): \
+                 read as an unlabelled {rows} x {cols} table, rows named r1..r{rows}, columns c1..c{cols}"
+            ),
+            ReadNote::CarriageReturns => f.write_str(
+                "lines end with a carriage return alone (old Mac line ends): read as line breaks",
+            ),
+            ReadNote::Dropped { side, count, first } => {
+                write!(
+                    f,
+                    "dropped {count} {side} species with no link: {}",
+                    first.join(", ")
+                )?;
+                if *count > first.len() {
+                    write!(f, " and {} more", count - first.len())?;
+                }
+                Ok(())
+            }
+        }
+    }
+}
+
+/// What the reader decided for one file: the notes in the order they were
+/// made.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct ReadReport {
+    /// The notes; empty when the file was read exactly as written.
+    pub notes: Vec<ReadNote>,
+}
+
+impl ReadReport {
+    /// Species dropped for having no link: `(rows, columns)`.
+    pub fn dropped(&self) -> (usize, usize) {
+        let mut d = (0, 0);
+        for n in &self.notes {
+            if let ReadNote::Dropped { side, count, .. } = n {
+                if *side == "row" {
+                    d.0 += count;
+                } else {
+                    d.1 += count;
+                }
+            }
+        }
+        d
+    }
+}
+
+/// A network read from a file with the report of what the reader decided.
+#[derive(Clone, Debug)]
+pub struct ReadOutcome {
+    /// The network.
+    pub network: Network<f64>,
+    /// The reader's decisions.
+    pub report: ReadReport,
 }
 
 /// Reads a network from a file (see the [module docs](self) for the layouts
@@ -171,11 +367,34 @@ pub struct ReadOptions {
 /// # std::fs::remove_file(&path).ok();
 /// ```
 pub fn read_network(path: &Path, opts: &ReadOptions) -> Result<Network<f64>> {
+    read_network_reported(path, opts).map(|o| o.network)
+}
+
+/// Reads a network from a file and reports what the reader decided for it
+/// (a header recognised, an unlabelled table, species dropped, old line
+/// ends): [`read_network`] with its [`ReadReport`]. Same rules, errors and
+/// cost.
+///
+/// # Example
+/// ```
+/// use nidus::io::{read_network_reported, ReadNote, ReadOptions};
+/// let path = std::env::temp_dir().join(format!("nidus_doc_rep_{}.csv", std::process::id()));
+/// std::fs::write(&path, "plant,bee,fly,moth\nclover,3,1,0\nthyme,2,0,0\n").unwrap();
+/// let read = read_network_reported(&path, &ReadOptions::default()).unwrap();
+/// assert_eq!(read.network.col_labels(), ["bee", "fly"]); // moth has no link
+/// assert_eq!(read.report.dropped(), (0, 1));
+/// assert_eq!(
+///     read.report.notes[0].to_string(),
+///     "dropped 1 column species with no link: moth"
+/// );
+/// # std::fs::remove_file(&path).ok();
+/// ```
+pub fn read_network_reported(path: &Path, opts: &ReadOptions) -> Result<ReadOutcome> {
     let bytes = std::fs::read(path).map_err(|source| Error::Io {
         path: path.to_path_buf(),
         source,
     })?;
-    parse_network(&bytes, path, opts)
+    parse_network_reported(&bytes, path, opts)
 }
 
 /// Parses a network from the bytes of a file; `source` names it in error
@@ -198,25 +417,294 @@ pub fn read_network(path: &Path, opts: &ReadOptions) -> Result<Network<f64>> {
 /// );
 /// ```
 pub fn parse_network(text: &[u8], source: &Path, opts: &ReadOptions) -> Result<Network<f64>> {
+    parse_network_reported(text, source, opts).map(|o| o.network)
+}
+
+/// Parses a network from the bytes of a file and reports what the reader
+/// decided: [`parse_network`] with its [`ReadReport`].
+///
+/// # Example
+/// ```
+/// use std::path::Path;
+/// use nidus::io::{parse_network_reported, ReadOptions};
+/// // A table saved without labels (as numpy's savetxt writes it, with commas).
+/// let read = parse_network_reported(b"1,1,0\n1,0,0\n", Path::new("m.csv"), &ReadOptions::default())
+///     .unwrap();
+/// assert_eq!(read.network.row_labels(), ["r1", "r2"]);
+/// assert_eq!(read.network.col_labels(), ["c1", "c2"]); // c3 had no link: dropped
+/// assert_eq!(read.report.notes.len(), 2);
+/// ```
+pub fn parse_network_reported(
+    text: &[u8],
+    source: &Path,
+    opts: &ReadOptions,
+) -> Result<ReadOutcome> {
+    let mut report = ReadReport::default();
     let text = text.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(text);
+    let text = line_ends(text, source, &mut report)?;
+    let text: &[u8] = &text;
     let delim = detect_delimiter(text);
     let text = match std::str::from_utf8(text) {
         Ok(t) => t,
         Err(e) => return Err(utf8_error(text, e.valid_up_to(), delim, source)),
     };
     let mut fields = Fields::new(text, delim, source);
-    match opts.layout {
-        Layout::Matrix => parse_matrix(&mut fields),
-        Layout::Edges => parse_edges(&mut fields, opts.edge_header),
+    let table = match opts.layout {
+        Layout::Matrix => parse_matrix(&mut fields, opts.labels, &mut report)?,
+        Layout::Edges => parse_edges(&mut fields, opts.edge_header, &mut report)?,
+    };
+    let network = table.finish(opts, &mut report)?;
+    Ok(ReadOutcome { network, report })
+}
+
+/// Whether a file that failed to read as a matrix looks like an edge list:
+/// at least two non-blank lines among its first 100, each with 2 or 3
+/// fields, and the second field of every line after the first not a number
+/// (a matrix row holds a number there). Callers use it to suggest the edges
+/// layout; it reads at most the first 100 lines.
+///
+/// # Example
+/// ```
+/// use nidus::io::looks_like_edge_list;
+/// assert!(looks_like_edge_list(b"clover,Bumblebee\nthyme,Hoverfly,2\n"));
+/// assert!(!looks_like_edge_list(b"plant,bee,fly\nclover,1,0\n"));
+/// ```
+pub fn looks_like_edge_list(text: &[u8]) -> bool {
+    let text = text.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(text);
+    let mut report = ReadReport::default();
+    let Ok(text) = line_ends(text, Path::new(""), &mut report) else {
+        return false;
+    };
+    let delim = detect_delimiter(&text);
+    let Ok(text) = std::str::from_utf8(&text) else {
+        return false;
+    };
+    let mut fields = Fields::new(text, delim, Path::new(""));
+    let mut rec = Vec::new();
+    let mut lines = 0;
+    while lines < 100 {
+        match fields.next_record(&mut rec) {
+            Ok(Some(_)) => {}
+            Ok(None) => break,
+            Err(_) => return false,
+        }
+        if !(2..=3).contains(&rec.len()) {
+            return false;
+        }
+        if lines > 0 && is_number(&rec[1], delim == b';') {
+            return false;
+        }
+        lines += 1;
     }
+    lines >= 2
+}
+
+/// Line ends: a text whose lines end with a carriage return alone (no line
+/// feed anywhere) is read with each CR as a line break, and noted. A text
+/// that has line feeds but also a lone CR followed by more text on the same
+/// line (outside quotes) mixes conventions: an error naming the line.
+fn line_ends<'t>(text: &'t [u8], source: &Path, report: &mut ReadReport) -> Result<Cow<'t, [u8]>> {
+    if !text.contains(&b'\r') {
+        return Ok(Cow::Borrowed(text));
+    }
+    if !text.contains(&b'\n') {
+        report.notes.push(ReadNote::CarriageReturns);
+        return Ok(Cow::Owned(
+            text.iter()
+                .map(|&b| if b == b'\r' { b'\n' } else { b })
+                .collect(),
+        ));
+    }
+    let (mut line, mut quoted, mut lone_cr) = (1usize, false, false);
+    for (k, &b) in text.iter().enumerate() {
+        match b {
+            b'\n' => {
+                line += 1;
+                lone_cr = false;
+            }
+            b'"' => quoted = !quoted,
+            b'\r' if !quoted && text.get(k + 1) != Some(&b'\n') => lone_cr = true,
+            b if lone_cr && !b.is_ascii_whitespace() => {
+                return Err(parse_error(
+                    source,
+                    line,
+                    None,
+                    "a carriage return (CR) alone splits this line, while other lines end with a \
+                     line feed: the file mixes line-end conventions; save it again with one kind \
+                     of line end"
+                        .into(),
+                ))
+            }
+            _ => {}
+        }
+    }
+    Ok(Cow::Borrowed(text))
+}
+
+/// A table as read, before the options that act on whole networks
+/// (transposition, dropping species without links) and validation.
+struct Table {
+    rows: Vec<String>,
+    cols: Vec<String>,
+    cells: TableCells,
+}
+
+enum TableCells {
+    /// Row-major values of a matrix-layout file.
+    Dense(Array2<f64>),
+    /// `(row, column, weight)` of an edge list, repeats not yet summed.
+    Triplets(Vec<(u32, u32, f64)>),
+}
+
+impl Table {
+    /// Transposes when asked, drops species without links unless kept
+    /// (noting them), and builds the network.
+    fn finish(mut self, opts: &ReadOptions, report: &mut ReadReport) -> Result<Network<f64>> {
+        if opts.transpose {
+            std::mem::swap(&mut self.rows, &mut self.cols);
+            self.cells = match self.cells {
+                TableCells::Dense(a) => {
+                    TableCells::Dense(a.reversed_axes().as_standard_layout().into_owned())
+                }
+                TableCells::Triplets(mut e) => {
+                    for t in &mut e {
+                        *t = (t.1, t.0, t.2);
+                    }
+                    TableCells::Triplets(e)
+                }
+            };
+        }
+        if !opts.keep_empty {
+            self.drop_empty(report)?;
+        }
+        match self.cells {
+            TableCells::Dense(a) => Network::from_dense(a, self.rows, self.cols),
+            TableCells::Triplets(e) => {
+                check_sums(&self.rows, &self.cols, &e)?;
+                Network::from_triplets(self.rows, self.cols, e)
+            }
+        }
+    }
+
+    /// Removes the rows and columns without a positive weight.
+    fn drop_empty(&mut self, report: &mut ReadReport) -> Result<()> {
+        let (m, n) = (self.rows.len(), self.cols.len());
+        let mut row_has = vec![false; m];
+        let mut col_has = vec![false; n];
+        match &self.cells {
+            TableCells::Dense(a) => {
+                for ((i, j), &w) in a.indexed_iter() {
+                    if w > 0.0 {
+                        row_has[i] = true;
+                        col_has[j] = true;
+                    }
+                }
+            }
+            TableCells::Triplets(e) => {
+                for &(i, j, w) in e {
+                    if w > 0.0 {
+                        row_has[i as usize] = true;
+                        col_has[j as usize] = true;
+                    }
+                }
+            }
+        }
+        if !row_has.iter().any(|&h| h) {
+            return Err(Error::EmptyNetwork("no cell holds a non-zero weight"));
+        }
+        let keep_rows: Vec<usize> = (0..m).filter(|&i| row_has[i]).collect();
+        let keep_cols: Vec<usize> = (0..n).filter(|&j| col_has[j]).collect();
+        if keep_rows.len() == m && keep_cols.len() == n {
+            return Ok(());
+        }
+        for (side, labels, has) in [
+            ("row", &self.rows, &row_has),
+            ("column", &self.cols, &col_has),
+        ] {
+            let count = has.iter().filter(|&&h| !h).count();
+            if count > 0 {
+                report.notes.push(ReadNote::Dropped {
+                    side,
+                    count,
+                    first: labels
+                        .iter()
+                        .zip(has)
+                        .filter(|(_, &h)| !h)
+                        .take(ReadNote::LISTED)
+                        .map(|(l, _)| l.clone())
+                        .collect(),
+                });
+            }
+        }
+        self.cells = match std::mem::replace(&mut self.cells, TableCells::Triplets(Vec::new())) {
+            TableCells::Dense(a) => {
+                TableCells::Dense(a.select(Axis(0), &keep_rows).select(Axis(1), &keep_cols))
+            }
+            TableCells::Triplets(e) => {
+                let new_id = |has: &[bool]| {
+                    let mut next = 0u32;
+                    has.iter()
+                        .map(|&h| {
+                            let id = next;
+                            next += u32::from(h);
+                            id
+                        })
+                        .collect::<Vec<u32>>()
+                };
+                let (ri, ci) = (new_id(&row_has), new_id(&col_has));
+                TableCells::Triplets(
+                    e.into_iter()
+                        .filter(|&(_, _, w)| w > 0.0)
+                        .map(|(i, j, w)| (ri[i as usize], ci[j as usize], w))
+                        .collect(),
+                )
+            }
+        };
+        let keep = |labels: &mut Vec<String>, has: &[bool]| {
+            let mut k = 0;
+            labels.retain(|_| {
+                k += 1;
+                has[k - 1]
+            });
+        };
+        keep(&mut self.rows, &row_has);
+        keep(&mut self.cols, &col_has);
+        Ok(())
+    }
+}
+
+/// Errors when repeated lines of one pair sum past the largest `f64`: the
+/// sum of all weights is checked first (finite for every file but such a
+/// one, since weights are non-negative), and only when it is infinite are
+/// the pairs summed to find the first that overflows.
+fn check_sums(rows: &[String], cols: &[String], entries: &[(u32, u32, f64)]) -> Result<()> {
+    if entries.iter().map(|e| e.2).sum::<f64>().is_finite() {
+        return Ok(());
+    }
+    let mut sums: HashMap<(u32, u32), f64> = HashMap::new();
+    for &(i, j, w) in entries {
+        let s = sums.entry((i, j)).or_insert(0.0);
+        *s += w;
+        if s.is_infinite() {
+            return Err(Error::BadWeight {
+                row: rows[i as usize].clone(),
+                col: cols[j as usize].clone(),
+                value: "summed over the pair's repeated lines".into(),
+                problem: "beyond the largest 64-bit float (about 1.8e308)",
+            });
+        }
+    }
+    Ok(())
 }
 
 /// The delimiter of the first non-blank record: the most frequent of comma,
 /// tab and semicolon outside quotes (a line break inside quotes does not end
-/// the record); comma when none occurs, ties to comma, then tab.
+/// the record); comma when none occurs, ties to comma, then tab. A line of
+/// whitespace holding a tab is not blank here (it may be a tab-delimited
+/// line of empty or whitespace labels).
 fn detect_delimiter(text: &[u8]) -> u8 {
     let mut start = 0;
-    while let Some(len) = blank_line_len(&text[start..]) {
+    while let Some(len) = blank_line_len(&text[start..], b'\t') {
         start += len;
     }
     let mut counts = [0usize; 3];
@@ -241,12 +729,13 @@ fn detect_delimiter(text: &[u8]) -> u8 {
     candidates[best]
 }
 
-/// When `text` starts with a line holding only whitespace and ending with a
-/// line break, the length of that line with its break.
-fn blank_line_len(text: &[u8]) -> Option<usize> {
+/// When `text` starts with a blank line (only whitespace, no `delim`)
+/// ending with a line break, the length of that line with its break. Cost:
+/// the length of that line.
+fn blank_line_len(text: &[u8], delim: u8) -> Option<usize> {
     let end = text
         .iter()
-        .position(|&b| !b.is_ascii_whitespace() || b == b'\n')?;
+        .position(|&b| !b.is_ascii_whitespace() || b == b'\n' || b == delim)?;
     (text[end] == b'\n').then_some(end + 1)
 }
 
@@ -297,6 +786,9 @@ struct Fields<'a> {
     line: usize,
     delim: u8,
     source: &'a Path,
+    /// The first value written with a decimal point and the first with a
+    /// decimal comma, as `(line, field, text)` (kept for `;` files only).
+    marks: [Option<(usize, usize, String)>; 2],
 }
 
 impl<'a> Fields<'a> {
@@ -307,7 +799,50 @@ impl<'a> Fields<'a> {
             line: 1,
             delim,
             source,
+            marks: [None, None],
         }
+    }
+
+    /// The same text from its start.
+    fn restart(&self) -> Self {
+        Fields::new(self.text, self.delim, self.source)
+    }
+
+    /// Parses a non-empty value at `line`, `field`: finite, non-negative, a
+    /// decimal comma accepted when the delimiter is `;`, where a file must
+    /// not mix decimal points and decimal commas. `empty_is` says what an
+    /// empty field means, for the message.
+    fn value(&mut self, s: &str, line: usize, field: usize, empty_is: &str) -> Result<f64> {
+        let decimal_comma = self.delim == b';';
+        let x = parse_value(s, decimal_comma)
+            .map_err(|why| self.error(line, Some(field), value_message(s, why, empty_is)))?;
+        if decimal_comma {
+            let kind = if s.contains(',') {
+                1
+            } else if s.contains('.') {
+                0
+            } else {
+                return Ok(x);
+            };
+            if let Some((l, f, first)) = &self.marks[1 - kind] {
+                let name = ["point", "comma"];
+                return Err(self.error(
+                    line,
+                    Some(field),
+                    format!(
+                        "\"{s}\" has a decimal {}, but line {l}, field {f} (\"{first}\") has a decimal {}; \
+                         one file must use one decimal mark (a point may also be a thousands separator here, \
+                         which nidus does not guess)",
+                        name[kind],
+                        name[1 - kind]
+                    ),
+                ));
+            }
+            if self.marks[kind].is_none() {
+                self.marks[kind] = Some((line, field, s.to_string()));
+            }
+        }
+        Ok(x)
     }
 
     fn is_space(&self, b: u8) -> bool {
@@ -322,19 +857,24 @@ impl<'a> Fields<'a> {
     /// physical line, or `None` at the end of the text.
     fn next_record(&mut self, out: &mut Vec<Cow<'a, str>>) -> Result<Option<usize>> {
         let bytes = self.text.as_bytes();
-        // Skip lines holding only whitespace (a last line without a break too).
+        // Skip blank lines: only whitespace and no delimiter (a last line
+        // without a break too). Each byte is looked at once.
+        let delim = self.delim;
         loop {
             let rest = &bytes[self.pos..];
-            if rest.iter().all(u8::is_ascii_whitespace) {
-                self.pos = bytes.len();
-                return Ok(None);
-            }
-            match blank_line_len(rest) {
-                Some(len) => {
-                    self.pos += len;
+            match rest
+                .iter()
+                .position(|&b| !b.is_ascii_whitespace() || b == b'\n' || b == delim)
+            {
+                None => {
+                    self.pos = bytes.len();
+                    return Ok(None);
+                }
+                Some(k) if rest[k] == b'\n' => {
+                    self.pos += k + 1;
                     self.line += 1;
                 }
-                None => break,
+                Some(_) => break,
             }
         }
         out.clear();
@@ -436,6 +976,11 @@ impl<'a> Fields<'a> {
     }
 }
 
+/// The message for a line whose fields are all empty: a line is blank
+/// (and skipped) only when it holds no delimiter.
+const EMPTY_FIELDS: &str = "this line holds only delimiters and spaces (every field is empty); \
+     delete it, or fill in its labels";
+
 fn delim_name(d: u8) -> &'static str {
     match d {
         b'\t' => "\\t",
@@ -461,6 +1006,14 @@ enum BadValue {
     Negative,
     NotANumberValue,
     Infinite,
+    /// A positive number too small for `f64`: it would read as 0.
+    Underflow,
+}
+
+/// Whether a field is a number (a value nidus may refuse, such as `-1` or
+/// `NaN`, is still a number, not a label).
+fn is_number(s: &str, decimal_comma: bool) -> bool {
+    !s.is_empty() && !matches!(parse_value(s, decimal_comma), Err(BadValue::NotNumber))
 }
 
 /// Parses one weight: finite, non-negative, decimal comma when the
@@ -476,6 +1029,16 @@ fn parse_value(s: &str, decimal_comma: bool) -> std::result::Result<f64, BadValu
         Ok(x) if x.is_nan() => Err(BadValue::NotANumberValue),
         Ok(x) if x.is_infinite() => Err(BadValue::Infinite),
         Ok(x) if x < 0.0 => Err(BadValue::Negative),
+        // A zero written with a non-zero digit before its exponent
+        // (`1e-400`) underflowed.
+        Ok(x)
+            if x == 0.0
+                && s.split(['e', 'E'])
+                    .next()
+                    .is_some_and(|m| m.bytes().any(|b| (b'1'..=b'9').contains(&b))) =>
+        {
+            Err(BadValue::Underflow)
+        }
         Ok(x) => Ok(x + 0.0), // -0 becomes 0
     }
 }
@@ -492,12 +1055,17 @@ fn value_message(s: &str, why: BadValue, empty_is: &str) -> String {
         BadValue::Infinite => format!(
             "\"{s}\" is infinite or too large for a 64-bit float; weights must be finite and non-negative"
         ),
+        BadValue::Underflow => format!(
+            "\"{s}\" is too small for a 64-bit float and would read as 0 (an absence); \
+             write 0 if it is one, or rescale the weights"
+        ),
     }
 }
 
-fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
+/// Reads the matrix layout with the labels `labels` says (see [`Labels`]).
+fn parse_matrix(fields: &mut Fields<'_>, labels: Labels, report: &mut ReadReport) -> Result<Table> {
     let mut rec: Vec<Cow<'_, str>> = Vec::new();
-    let header_line = match fields.next_record(&mut rec)? {
+    let first_line = match fields.next_record(&mut rec)? {
         Some(l) => l,
         None => {
             return Err(fields.error(
@@ -507,6 +1075,118 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
             ))
         }
     };
+    let decimal_comma = fields.delim == b';';
+    let unlabelled = match labels {
+        Labels::None => true,
+        Labels::Both => false,
+        // The corner cell is a number (a labelled table holds a name there
+        // or leaves it empty) and no other cell of the first line is text.
+        Labels::Auto => {
+            is_number(&rec[0], decimal_comma)
+                && rec[1..]
+                    .iter()
+                    .all(|f| f.is_empty() || is_number(f, decimal_comma))
+        }
+    };
+    if unlabelled {
+        let auto = labels == Labels::Auto;
+        if let Some(table) = parse_unlabelled(fields, &mut rec, first_line, auto)? {
+            if auto {
+                report.notes.push(ReadNote::Unlabelled {
+                    rows: table.rows.len(),
+                    cols: table.cols.len(),
+                });
+            }
+            return Ok(table);
+        }
+        // A later line starts with text: it is labelled after all.
+        *fields = fields.restart();
+        fields.next_record(&mut rec)?;
+    }
+    parse_labelled(fields, &mut rec, first_line)
+}
+
+/// Errors when a dense table of `rows x n` values passes the cap of
+/// [`check_dense_size`](crate::network::check_dense_size), at `line`: the
+/// reader refuses as soon as the table grows past it.
+fn check_table_size(fields: &Fields<'_>, line: usize, rows: usize, n: usize) -> Result<()> {
+    match crate::network::check_dense_size("the matrix layout", rows, n, 8) {
+        Ok(()) => Ok(()),
+        Err(Error::TooLarge { bytes, .. }) => Err(fields.error(
+            line,
+            None,
+            format!(
+                "the table reaches {rows} rows x {n} columns here, {bytes} bytes as a dense table, past \
+                 the cap of {} cells or {} bytes; give a network this large as an edge list, which \
+                 is stored sparsely",
+                crate::network::DENSE_CELL_LIMIT,
+                crate::network::DENSE_BYTE_LIMIT
+            ),
+        )),
+        Err(e) => Err(e),
+    }
+}
+
+/// Reads a table without labels whose first line is in `rec`; with `auto`,
+/// returns `None` at the first later line whose first field is text.
+fn parse_unlabelled<'a>(
+    fields: &mut Fields<'a>,
+    rec: &mut Vec<Cow<'a, str>>,
+    first_line: usize,
+    auto: bool,
+) -> Result<Option<Table>> {
+    let width = rec.len();
+    let decimal_comma = fields.delim == b';';
+    let mut values: Vec<f64> = Vec::new();
+    let mut rows = 0usize;
+    let mut line = first_line;
+    loop {
+        if rows > 0 {
+            if auto && !rec[0].is_empty() && !is_number(&rec[0], decimal_comma) {
+                return Ok(None);
+            }
+            if rec.len() != width {
+                return Err(fields.error(
+                    line,
+                    None,
+                    format!(
+                        "this line has {} field{}, expected {width} like the first line (line {first_line}) of this table without labels{}",
+                        rec.len(),
+                        if rec.len() == 1 { "" } else { "s" },
+                        decimal_comma_hint(fields.delim, rec.len() > width)
+                    ),
+                ));
+            }
+        }
+        for (k, cell) in rec.iter().enumerate() {
+            values.push(if cell.is_empty() {
+                0.0
+            } else {
+                fields.value(cell, line, k + 1, "an empty cell counts as 0")?
+            });
+        }
+        rows += 1;
+        check_table_size(fields, line, rows, width)?;
+        match fields.next_record(rec)? {
+            Some(l) => line = l,
+            None => break,
+        }
+    }
+    let weights = Array2::from_shape_vec((rows, width), values)
+        .map_err(|e| Error::InvalidArgument(format!("internal shape error: {e}")))?;
+    Ok(Some(Table {
+        rows: (1..=rows).map(|i| format!("r{i}")).collect(),
+        cols: (1..=width).map(|j| format!("c{j}")).collect(),
+        cells: TableCells::Dense(weights),
+    }))
+}
+
+/// Reads a table with a header line (in `rec`) and row labels.
+fn parse_labelled<'a>(
+    fields: &mut Fields<'a>,
+    rec: &mut Vec<Cow<'a, str>>,
+    header_line: usize,
+) -> Result<Table> {
     let width = rec.len();
     if width < 2 {
         return Err(fields.error(
@@ -525,7 +1205,11 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
             return Err(fields.error(
                 header_line,
                 Some(k + 1),
-                "empty column label; expected a label for every column".into(),
+                if rec.iter().all(|f| f.is_empty()) {
+                    EMPTY_FIELDS.into()
+                } else {
+                    "empty column label; expected a label for every column".into()
+                },
             ));
         }
         if let Some(first) = col_seen.insert(label.to_string(), k + 1) {
@@ -540,11 +1224,10 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
         col_labels.push(label.to_string());
     }
     let n = width - 1;
-    let decimal_comma = fields.delim == b';';
     let mut row_labels: Vec<String> = Vec::new();
     let mut row_seen: HashMap<String, usize> = HashMap::new();
     let mut values: Vec<f64> = Vec::new();
-    while let Some(line) = fields.next_record(&mut rec)? {
+    while let Some(line) = fields.next_record(rec)? {
         if rec.len() != width {
             return Err(fields.error(
                 line,
@@ -562,7 +1245,11 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
             return Err(fields.error(
                 line,
                 Some(1),
-                "empty row label; expected the row's label in the first field".into(),
+                if rec.iter().all(|f| f.is_empty()) {
+                    EMPTY_FIELDS.into()
+                } else {
+                    "empty row label; expected the row's label in the first field".into()
+                },
             ));
         }
         if let Some(first) = row_seen.insert(label.to_string(), line) {
@@ -576,21 +1263,13 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
         }
         row_labels.push(label.to_string());
         for (k, cell) in rec.iter().enumerate().skip(1) {
-            if cell.is_empty() {
-                values.push(0.0);
-                continue;
-            }
-            match parse_value(cell, decimal_comma) {
-                Ok(x) => values.push(x),
-                Err(why) => {
-                    return Err(fields.error(
-                        line,
-                        Some(k + 1),
-                        value_message(cell, why, "an empty cell counts as 0"),
-                    ))
-                }
-            }
+            values.push(if cell.is_empty() {
+                0.0
+            } else {
+                fields.value(cell, line, k + 1, "an empty cell counts as 0")?
+            });
         }
+        check_table_size(fields, line, row_labels.len(), n)?;
     }
     if row_labels.is_empty() {
         return Err(fields.error(
@@ -602,7 +1281,11 @@ fn parse_matrix(fields: &mut Fields<'_>) -> Result<Network<f64>> {
     let m = row_labels.len();
     let weights = Array2::from_shape_vec((m, n), values)
         .map_err(|e| Error::InvalidArgument(format!("internal shape error: {e}")))?;
-    Network::from_dense(weights, row_labels, col_labels)
+    Ok(Table {
+        rows: row_labels,
+        cols: col_labels,
+        cells: TableCells::Dense(weights),
+    })
 }
 
 /// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
@@ -789,11 +1472,19 @@ struct EdgeLines {
     entries: Vec<(u32, u32, f64)>,
     /// The line skipped as a header, if any.
     header_line: Option<usize>,
+    /// A first line of two labels read as data for now, which
+    /// [`EdgeHeader::Auto`] judges once every line is read: its line and
+    /// labels.
+    candidate: Option<(usize, [String; 2])>,
 }
 
 /// Parses the edge lines that `fields` yields; `header` says how to treat
 /// the first non-blank line.
-fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLines> {
+fn edge_lines<'a>(
+    fields: &mut Fields<'a>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
@@ -803,6 +1494,7 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
         cols: LabelIndex::new(),
         entries: Vec::with_capacity(lines_guess),
         header_line: None,
+        candidate: None,
     };
     let mut first = true;
     while let Some(line) = fields.next_record(&mut rec)? {
@@ -812,12 +1504,21 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
                 EdgeHeader::Absent => false,
                 EdgeHeader::Present => true,
                 EdgeHeader::Auto => {
-                    rec.len() == 3
-                        && !rec[2].is_empty()
-                        && matches!(
-                            parse_value(&rec[2], decimal_comma),
-                            Err(BadValue::NotNumber)
-                        )
+                    let word_weight =
+                        rec.len() == 3 && !rec[2].is_empty() && !is_number(&rec[2], decimal_comma);
+                    if word_weight {
+                        report.notes.push(ReadNote::EdgeHeader {
+                            line,
+                            words: rec.iter().map(|w| w.to_string()).collect(),
+                            rule: HeaderRule::WeightNotNumber,
+                        });
+                    } else if (rec.len() == 2 || (rec.len() == 3 && rec[2].is_empty()))
+                        && !rec[0].is_empty()
+                        && !rec[1].is_empty()
+                    {
+                        chunk.candidate = Some((line, [rec[0].to_string(), rec[1].to_string()]));
+                    }
+                    word_weight
                 }
             };
             if skip {
@@ -854,14 +1555,14 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
         let weight = match rec.get(2) {
             None => 1.0,
             Some(w) if w.is_empty() => 1.0,
-            Some(w) => parse_value(w, decimal_comma).map_err(|why| {
-                fields.error(
-                    line,
-                    Some(3),
-                    value_message(w, why, "a missing or empty weight counts as 1"),
-                )
-            })?,
+            Some(w) => {
+                let w = w.clone();
+                fields.value(&w, line, 3, "a missing or empty weight counts as 1")?
+            }
         };
+        if rec.iter().all(|f| f.is_empty()) {
+            return Err(fields.error(line, None, EMPTY_FIELDS.into()));
+        }
         for (k, side) in [(0usize, "row"), (1, "column")] {
             if rec[k].is_empty() {
                 return Err(fields.error(
@@ -882,9 +1583,14 @@ fn edge_lines<'a>(fields: &mut Fields<'a>, header: EdgeHeader) -> Result<EdgeLin
     Ok(chunk)
 }
 
-/// Reads an edge list (all lines in one pass; see [`edge_lines`]).
-fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f64>> {
-    let chunk = edge_lines(fields, header)?;
+/// Reads an edge list (all lines in one pass; see [`edge_lines`]), then
+/// judges a first line of two labels (see [`judge_first_line`]).
+fn parse_edges(
+    fields: &mut Fields<'_>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+) -> Result<Table> {
+    let mut chunk = edge_lines(fields, header, report)?;
     if chunk.entries.is_empty() {
         return Err(match chunk.header_line {
             Some(l) => fields.error(
@@ -899,11 +1605,94 @@ fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f6
             ),
         });
     }
-    Network::from_triplets(
-        chunk.rows.into_strings(),
-        chunk.cols.into_strings(),
-        chunk.entries,
-    )
+    let mut rows = chunk.rows.into_strings();
+    let mut cols = chunk.cols.into_strings();
+    if let Some((line, words)) = chunk.candidate.take() {
+        if judge_first_line(
+            fields,
+            &chunk.entries,
+            (rows.len(), cols.len()),
+            line,
+            &words,
+        )? {
+            // Its labels are row 0 and column 0 and appear nowhere else.
+            chunk.entries.remove(0);
+            for e in &mut chunk.entries {
+                e.0 -= 1;
+                e.1 -= 1;
+            }
+            rows.remove(0);
+            cols.remove(0);
+            report.notes.push(ReadNote::EdgeHeader {
+                line,
+                words: words.to_vec(),
+                rule: HeaderRule::LabelsAppearOnce,
+            });
+        }
+    }
+    Ok(Table {
+        rows,
+        cols,
+        cells: TableCells::Triplets(chunk.entries),
+    })
+}
+
+/// The rule of [`EdgeHeader::Auto`] for a first line of two labels
+/// (`entries[0]`, labels row 0 and column 0), [`HeaderRule::LabelsAppearOnce`]:
+/// * either label appears on another line (in its own column): data;
+/// * neither does, there are at least [`HEADER_MIN_LINES`] lines below it,
+///   and every line below shares its row or its column label with another
+///   line: a header (a line that shares nothing stands out only if no data
+///   line does);
+/// * otherwise (too few lines, or other lines share nothing either): an
+///   error asking the user to say which.
+///
+/// Returns whether the line is a header. Cost: one pass over the entries.
+fn judge_first_line(
+    fields: &Fields<'_>,
+    entries: &[(u32, u32, f64)],
+    (m, n): (usize, usize),
+    line: usize,
+    words: &[String; 2],
+) -> Result<bool> {
+    let mut row_lines = vec![0u32; m];
+    let mut col_lines = vec![0u32; n];
+    for &(i, j, _) in entries {
+        row_lines[i as usize] = row_lines[i as usize].saturating_add(1);
+        col_lines[j as usize] = col_lines[j as usize].saturating_add(1);
+    }
+    if row_lines[0] > 1 || col_lines[0] > 1 {
+        return Ok(false);
+    }
+    let below = entries.len() - 1;
+    let lonely = entries[1..]
+        .iter()
+        .filter(|&&(i, j, _)| row_lines[i as usize] == 1 && col_lines[j as usize] == 1)
+        .count();
+    if below >= HEADER_MIN_LINES && lonely == 0 {
+        return Ok(true);
+    }
+    let why = if below < HEADER_MIN_LINES {
+        format!(
+            "the file has {below} line{} below it, too few to judge (at least {HEADER_MIN_LINES} needed)",
+            if below == 1 { "" } else { "s" }
+        )
+    } else {
+        format!(
+            "so do {lonely} other line{}, so a line that shares no label may well be data",
+            if lonely == 1 { "" } else { "s" }
+        )
+    };
+    Err(fields.error(
+        line,
+        None,
+        format!(
+            "cannot tell whether the first line (\"{}\", \"{}\") is a header or an interaction: \
+             neither label appears on another line, but {why}; say which with the edge header \
+             setting (--edge-header yes for a header, no for data)",
+            words[0], words[1]
+        ),
+    ))
 }
 
 /// Writes a network in the matrix layout: a header line whose first cell is
