@@ -1700,12 +1700,14 @@ fn judge_first_line(
 /// and one value per column (zeros written as `0`).
 ///
 /// `delimiter` must be `b','`, `b'\t'` or `b';'` (otherwise an
-/// [`std::io::ErrorKind::InvalidInput`] error). Labels holding a comma, tab,
-/// semicolon, quote or line break, or with surrounding spaces, are quoted, so
-/// the delimiter is detected again on reading. Values are written in the
+/// [`std::io::ErrorKind::InvalidInput`] error). Labels holding a comma,
+/// semicolon, quote or control character (tab, line break, form feed ...),
+/// or with surrounding spaces, are quoted, so the delimiter is detected again
+/// on reading. Values are written in the
 /// shortest form that parses back to the same `f64` (integers without `.0`,
 /// very large or small numbers with an exponent), so for any network whose
-/// labels are non-empty, [`read_network`] gives back exactly
+/// labels are non-empty, [`read_network`] with
+/// [`ReadOptions::keep_empty`] and [`Labels::Both`] gives back exactly
 /// `net.to_f64()`: the same labels in the same order and bit-identical
 /// weights. Output is buffered internally.
 ///
@@ -1780,9 +1782,12 @@ fn format_value(buf: &mut String, x: f64) {
 }
 
 fn write_label<W: Write>(out: &mut W, label: &str) -> std::io::Result<()> {
+    // Delimiters, quotes and every control character (line breaks, tab,
+    // form feed ...): a label of control characters alone would otherwise
+    // look like whitespace around a delimiter.
     let needs_quotes = label
-        .bytes()
-        .any(|b| matches!(b, b',' | b'\t' | b';' | b'"' | b'\n' | b'\r'))
+        .chars()
+        .any(|c| matches!(c, ',' | ';' | '"') || c.is_control())
         || label.starts_with(' ')
         || label.ends_with(' ');
     if !needs_quotes {
@@ -1860,6 +1865,24 @@ mod tests {
             parse_value("two", false),
             Err(BadValue::NotNumber)
         ));
+    }
+
+    /// Issue 10, item 10: the matrix reader held about 8.8 times the file
+    /// before any cap applied. It checks the table's size after every line
+    /// and refuses, at that line, once the dense cap is passed (2^32 bytes
+    /// of f64: 2^29 cells). Checked here on the bound itself; a file that
+    /// large does not belong in a test.
+    #[test]
+    fn matrix_reader_refuses_past_the_cap() {
+        let f = Fields::new("", b',', Path::new("big.csv"));
+        assert!(check_table_size(&f, 9, 1 << 19, 1 << 10).is_ok());
+        let err = check_table_size(&f, 9, (1 << 19) + 1, 1 << 10).unwrap_err();
+        let text = err.to_string();
+        assert!(
+            text.starts_with("big.csv: line 9: the table reaches 524289 rows x 1024 columns"),
+            "{text}"
+        );
+        assert!(text.contains("edge list"), "{text}");
     }
 
     #[test]
