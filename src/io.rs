@@ -7,22 +7,31 @@
 //!
 //! * **matrix**: a header row of column labels (its first cell is free text,
 //!   for example the name of the row guild), then one row per species: its
-//!   label, then one value per column. An empty cell is 0.
+//!   label, then one value per column. An empty cell is 0. A table without
+//!   labels is read too (see [`Labels`]).
 //! * **edges**: one interaction per line, `row label, column label[, weight]`.
 //!   A missing or empty weight is 1 and repeated pairs are summed, so a log of
 //!   single field observations becomes a count matrix. Rows and columns are
 //!   labelled in order of first appearance; a label may name both a row and a
 //!   column (they are two guilds). The first line is a header and skipped
-//!   according to [`EdgeHeader`].
+//!   according to [`EdgeHeader`] (see [`HeaderRule`] for how `auto`
+//!   decides).
 //!
 //! Common rules: fields are trimmed of surrounding spaces (and tabs, unless
 //! tab is the delimiter); a field may be quoted with `"` (a doubled `""`
 //! inside stands for one quote; delimiters and line breaks inside quotes are
-//! part of the field); lines holding only whitespace are skipped anywhere;
-//! the text is UTF-8, with or without a byte-order mark, with LF or CRLF line
-//! ends. When the delimiter is `;` a decimal comma is accepted (`2,5` is 2.5).
-//! Values must be finite and non-negative: Rust's number syntax is used, but
-//! `NaN`, `inf` and `infinity` are refused.
+//! part of the field); lines holding only whitespace and no delimiter are
+//! skipped anywhere; the text is UTF-8, with or without a byte-order mark,
+//! with LF, CRLF or CR-only line ends. When the delimiter is `;` a decimal
+//! comma is accepted (`2,5` is 2.5), but not mixed with decimal points in one
+//! file. Values must be finite and non-negative: Rust's number syntax is
+//! used, but `NaN`, `inf`, `infinity` and non-zero values that round to 0 or
+//! to infinity are refused.
+//!
+//! Species without any link are dropped unless [`ReadOptions::keep_empty`]
+//! is set; [`ReadOptions::transpose`] swaps the sides. Every decision the
+//! reader takes for the caller is returned in a [`ReadReport`]
+//! ([`read_network_reported`]); the library never prints.
 //!
 //! Every problem is reported as [`Error::Parse`] naming the file, the physical
 //! 1-based line and, when one field is at fault, its 1-based field number,
@@ -91,8 +100,10 @@ impl FromStr for Layout {
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
 pub enum EdgeHeader {
     /// Skipped when it has a weight field that is not a number (for example
-    /// `plant,visitor,visits`); otherwise read as data. A two-field header
-    /// cannot be told from data: use [`EdgeHeader::Present`] for it.
+    /// `plant,visitor,visits`), or when it holds two labels that appear on no
+    /// other line in a file where every other line shares a label (see
+    /// [`HeaderRule::LabelsAppearOnce`]); an error when that cannot be
+    /// judged; otherwise read as data. Each skip is reported.
     #[default]
     #[serde(rename = "auto")]
     Auto,
@@ -1555,10 +1566,7 @@ fn edge_lines<'a>(
         let weight = match rec.get(2) {
             None => 1.0,
             Some(w) if w.is_empty() => 1.0,
-            Some(w) => {
-                let w = w.clone();
-                fields.value(&w, line, 3, "a missing or empty weight counts as 1")?
-            }
+            Some(w) => fields.value(w, line, 3, "a missing or empty weight counts as 1")?,
         };
         if rec.iter().all(|f| f.is_empty()) {
             return Err(fields.error(line, None, EMPTY_FIELDS.into()));

@@ -195,7 +195,7 @@ fn header_rule_needs_enough_lines_and_no_lonely_line() {
     assert_eq!(got.network.row_labels(), ["clover"]);
     assert!(got.report.notes.is_empty());
     // A lonely first line with too few lines below: an error, not a guess.
-    let few: String = "plant,visitor\n".to_string() + &"clover,bee\nclover,fly\nthyme,bee\n"[..];
+    let few = String::from("plant,visitor\nclover,bee\nclover,fly\nthyme,bee\n");
     assert_eq!(HEADER_MIN_LINES, 4);
     let err = parse(&few, &EDGES).unwrap_err().to_string();
     assert!(err.starts_with("typed.csv: line 1: cannot tell"), "{err}");
