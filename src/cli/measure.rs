@@ -40,6 +40,7 @@ pub struct MeasureArgs {
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let opts = MeasureOptions {
         order: args.order,
         families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),

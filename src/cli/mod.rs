@@ -157,6 +157,16 @@ pub fn input_name(file: &Path) -> String {
     }
 }
 
+/// Refuses `-` (standard input) named more than once: it can be read once.
+pub fn check_stdin_once(files: &[std::path::PathBuf]) -> nidus::Result<()> {
+    if files.iter().filter(|f| f.as_os_str() == "-").count() > 1 {
+        return Err(nidus::Error::InvalidArgument(
+            "'-' (standard input) is named more than once; it can be read only once".into(),
+        ));
+    }
+    Ok(())
+}
+
 /// Reads one input (`-` is standard input) and prints the reader's notes on
 /// stderr. When a matrix read fails on a file that looks like an edge list,
 /// the error gains the advice to use `--layout edges`.

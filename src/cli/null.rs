@@ -245,6 +245,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         )));
     }
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let mut saved = match &args.save_draws {
         Some(p) => Some((
             p.clone(),
