@@ -160,17 +160,35 @@ pub enum Labels {
     /// A header line of column labels and a row label in the first field of
     /// every line.
     Both,
+    /// Row labels but no header line: the first field of every line is the
+    /// row's label; columns are labelled `c1, c2, ...`.
+    Rows,
+    /// A header line of column labels (every field of it, no corner cell)
+    /// but no row labels: rows are labelled `r1, r2, ...`.
+    Cols,
     /// No labels: every field is a value; rows are labelled `r1, r2, ...`
     /// and columns `c1, c2, ...`.
     None,
 }
 
 impl Labels {
-    /// The name used on the command line: `auto`, `both` or `none`.
+    /// Every setting, in the order of the command-line help.
+    pub const ALL: [Labels; 5] = [
+        Labels::Auto,
+        Labels::Both,
+        Labels::Rows,
+        Labels::Cols,
+        Labels::None,
+    ];
+
+    /// The name used on the command line: `auto`, `both`, `rows`, `cols` or
+    /// `none`.
     pub fn name(self) -> &'static str {
         match self {
             Labels::Auto => "auto",
             Labels::Both => "both",
+            Labels::Rows => "rows",
+            Labels::Cols => "cols",
             Labels::None => "none",
         }
     }
@@ -185,12 +203,7 @@ impl fmt::Display for Labels {
 impl FromStr for Labels {
     type Err = Error;
     fn from_str(s: &str) -> Result<Self> {
-        crate::error::find_by_name(
-            s,
-            &[Labels::Auto, Labels::Both, Labels::None],
-            Labels::name,
-            "labels setting",
-        )
+        crate::error::find_by_name(s, &Labels::ALL, Labels::name, "labels setting")
     }
 }
 
@@ -1087,34 +1100,36 @@ fn parse_matrix(fields: &mut Fields<'_>, labels: Labels, report: &mut ReadReport
         }
     };
     let decimal_comma = fields.delim == b';';
-    let unlabelled = match labels {
-        Labels::None => true,
-        Labels::Both => false,
+    let (header, row_labels) = match labels {
+        Labels::Both => (true, true),
+        Labels::Rows => (false, true),
+        Labels::Cols => (true, false),
+        Labels::None => (false, false),
         // The corner cell is a number (a labelled table holds a name there
         // or leaves it empty) and no other cell of the first line is text.
         Labels::Auto => {
-            is_number(&rec[0], decimal_comma)
+            let numbers = is_number(&rec[0], decimal_comma)
                 && rec[1..]
                     .iter()
-                    .all(|f| f.is_empty() || is_number(f, decimal_comma))
+                    .all(|f| f.is_empty() || is_number(f, decimal_comma));
+            (!numbers, !numbers)
         }
     };
-    if unlabelled {
-        let auto = labels == Labels::Auto;
-        if let Some(table) = parse_unlabelled(fields, &mut rec, first_line, auto)? {
-            if auto {
-                report.notes.push(ReadNote::Unlabelled {
-                    rows: table.rows.len(),
-                    cols: table.cols.len(),
-                });
-            }
-            return Ok(table);
+    let auto = labels == Labels::Auto && !header;
+    if let Some(table) = parse_table(fields, &mut rec, first_line, (header, row_labels), auto)? {
+        if auto {
+            report.notes.push(ReadNote::Unlabelled {
+                rows: table.rows.len(),
+                cols: table.cols.len(),
+            });
         }
-        // A later line starts with text: it is labelled after all.
-        *fields = fields.restart();
-        fields.next_record(&mut rec)?;
+        return Ok(table);
     }
-    parse_labelled(fields, &mut rec, first_line)
+    // A later line starts with text: the table is labelled after all.
+    *fields = fields.restart();
+    fields.next_record(&mut rec)?;
+    parse_table(fields, &mut rec, first_line, (true, true), false)?
+        .ok_or_else(|| Error::InvalidArgument("internal: a labelled table gave up".into()))
 }
 
 /// Errors when a dense table of `rows x n` values passes the cap of
@@ -1138,38 +1153,119 @@ fn check_table_size(fields: &Fields<'_>, line: usize, rows: usize, n: usize) -> 
     }
 }
 
-/// Reads a table without labels whose first line is in `rec`; with `auto`,
-/// returns `None` at the first later line whose first field is text.
-fn parse_unlabelled<'a>(
+/// Reads a table whose first line is in `rec`, with a header line of
+/// column labels when `header` and a row label first on each data line when
+/// `row_labels`; missing labels are `r1..` and `c1..`. With `auto` (a table
+/// read as unlabelled by [`Labels::Auto`]), returns `None` at the first
+/// line whose first field is text.
+fn parse_table<'a>(
     fields: &mut Fields<'a>,
     rec: &mut Vec<Cow<'a, str>>,
     first_line: usize,
+    (header, row_labels): (bool, bool),
     auto: bool,
 ) -> Result<Option<Table>> {
     let width = rec.len();
-    let decimal_comma = fields.delim == b';';
-    let mut values: Vec<f64> = Vec::new();
-    let mut rows = 0usize;
-    let mut line = first_line;
-    loop {
-        if rows > 0 {
-            if auto && !rec[0].is_empty() && !is_number(&rec[0], decimal_comma) {
-                return Ok(None);
-            }
-            if rec.len() != width {
+    let off = usize::from(row_labels);
+    if width <= off {
+        return Err(fields.error(
+            first_line,
+            None,
+            format!(
+                "the {} has one field (\"{}\"); expected a first cell and at least one {}, separated by commas, tabs or semicolons",
+                if header { "header" } else { "first line" },
+                rec[0],
+                if header { "column label" } else { "value" }
+            ),
+        ));
+    }
+    let n = width - off;
+    let like = if header {
+        format!("like the header on line {first_line}")
+    } else {
+        format!("like the first line (line {first_line}) of this table")
+    };
+    let col_labels: Vec<String> = if header {
+        let mut labels: Vec<String> = Vec::with_capacity(n);
+        let mut seen: HashMap<String, usize> = HashMap::with_capacity(n);
+        for (k, label) in rec.iter().enumerate().skip(off) {
+            if label.is_empty() {
                 return Err(fields.error(
-                    line,
-                    None,
+                    first_line,
+                    Some(k + 1),
+                    if rec.iter().all(|f| f.is_empty()) {
+                        EMPTY_FIELDS.into()
+                    } else {
+                        "empty column label; expected a label for every column".into()
+                    },
+                ));
+            }
+            if let Some(first) = seen.insert(label.to_string(), k + 1) {
+                return Err(fields.error(
+                    first_line,
+                    Some(k + 1),
                     format!(
-                        "this line has {} field{}, expected {width} like the first line (line {first_line}) of this table without labels{}",
-                        rec.len(),
-                        if rec.len() == 1 { "" } else { "s" },
-                        decimal_comma_hint(fields.delim, rec.len() > width)
+                        "the column label \"{label}\" repeats field {first}; column labels must be unique"
                     ),
                 ));
             }
+            labels.push(label.to_string());
         }
-        for (k, cell) in rec.iter().enumerate() {
+        labels
+    } else {
+        (1..=n).map(|j| format!("c{j}")).collect()
+    };
+    let decimal_comma = fields.delim == b';';
+    let mut labels: Vec<String> = Vec::new();
+    let mut seen: HashMap<String, usize> = HashMap::new();
+    let mut values: Vec<f64> = Vec::new();
+    let mut rows = 0usize;
+    let mut next = if header {
+        fields.next_record(rec)?
+    } else {
+        Some(first_line)
+    };
+    while let Some(line) = next {
+        if auto && !rec[0].is_empty() && !is_number(&rec[0], decimal_comma) {
+            return Ok(None);
+        }
+        if rec.len() != width {
+            return Err(fields.error(
+                line,
+                None,
+                format!(
+                    "this line has {} field{}, expected {width} {like}{}",
+                    rec.len(),
+                    if rec.len() == 1 { "" } else { "s" },
+                    decimal_comma_hint(fields.delim, rec.len() > width)
+                ),
+            ));
+        }
+        if row_labels {
+            let label = &rec[0];
+            if label.is_empty() {
+                return Err(fields.error(
+                    line,
+                    Some(1),
+                    if rec.iter().all(|f| f.is_empty()) {
+                        EMPTY_FIELDS.into()
+                    } else {
+                        "empty row label; expected the row's label in the first field".into()
+                    },
+                ));
+            }
+            if let Some(first) = seen.insert(label.to_string(), line) {
+                return Err(fields.error(
+                    line,
+                    Some(1),
+                    format!(
+                        "the row label \"{label}\" was already used on line {first}; row labels must be unique"
+                    ),
+                ));
+            }
+            labels.push(label.to_string());
+        }
+        for (k, cell) in rec.iter().enumerate().skip(off) {
             values.push(if cell.is_empty() {
                 0.0
             } else {
@@ -1177,126 +1273,26 @@ fn parse_unlabelled<'a>(
             });
         }
         rows += 1;
-        check_table_size(fields, line, rows, width)?;
-        match fields.next_record(rec)? {
-            Some(l) => line = l,
-            None => break,
-        }
+        check_table_size(fields, line, rows, n)?;
+        next = fields.next_record(rec)?;
     }
-    let weights = Array2::from_shape_vec((rows, width), values)
-        .map_err(|e| Error::InvalidArgument(format!("internal shape error: {e}")))?;
-    Ok(Some(Table {
-        rows: (1..=rows).map(|i| format!("r{i}")).collect(),
-        cols: (1..=width).map(|j| format!("c{j}")).collect(),
-        cells: TableCells::Dense(weights),
-    }))
-}
-
-/// Reads a table with a header line (in `rec`) and row labels.
-fn parse_labelled<'a>(
-    fields: &mut Fields<'a>,
-    rec: &mut Vec<Cow<'a, str>>,
-    header_line: usize,
-) -> Result<Table> {
-    let width = rec.len();
-    if width < 2 {
+    if rows == 0 {
         return Err(fields.error(
-            header_line,
-            None,
-            format!(
-                "the header has one field (\"{}\"); expected a first cell and at least one column label, separated by commas, tabs or semicolons",
-                rec[0]
-            ),
-        ));
-    }
-    let mut col_labels: Vec<String> = Vec::with_capacity(width - 1);
-    let mut col_seen: HashMap<String, usize> = HashMap::with_capacity(width - 1);
-    for (k, label) in rec.iter().enumerate().skip(1) {
-        if label.is_empty() {
-            return Err(fields.error(
-                header_line,
-                Some(k + 1),
-                if rec.iter().all(|f| f.is_empty()) {
-                    EMPTY_FIELDS.into()
-                } else {
-                    "empty column label; expected a label for every column".into()
-                },
-            ));
-        }
-        if let Some(first) = col_seen.insert(label.to_string(), k + 1) {
-            return Err(fields.error(
-                header_line,
-                Some(k + 1),
-                format!(
-                    "the column label \"{label}\" repeats field {first}; column labels must be unique"
-                ),
-            ));
-        }
-        col_labels.push(label.to_string());
-    }
-    let n = width - 1;
-    let mut row_labels: Vec<String> = Vec::new();
-    let mut row_seen: HashMap<String, usize> = HashMap::new();
-    let mut values: Vec<f64> = Vec::new();
-    while let Some(line) = fields.next_record(rec)? {
-        if rec.len() != width {
-            return Err(fields.error(
-                line,
-                None,
-                format!(
-                    "this line has {} field{}, expected {width} like the header on line {header_line}{}",
-                    rec.len(),
-                    if rec.len() == 1 { "" } else { "s" },
-                    decimal_comma_hint(fields.delim, rec.len() > width)
-                ),
-            ));
-        }
-        let label = &rec[0];
-        if label.is_empty() {
-            return Err(fields.error(
-                line,
-                Some(1),
-                if rec.iter().all(|f| f.is_empty()) {
-                    EMPTY_FIELDS.into()
-                } else {
-                    "empty row label; expected the row's label in the first field".into()
-                },
-            ));
-        }
-        if let Some(first) = row_seen.insert(label.to_string(), line) {
-            return Err(fields.error(
-                line,
-                Some(1),
-                format!(
-                    "the row label \"{label}\" was already used on line {first}; row labels must be unique"
-                ),
-            ));
-        }
-        row_labels.push(label.to_string());
-        for (k, cell) in rec.iter().enumerate().skip(1) {
-            values.push(if cell.is_empty() {
-                0.0
-            } else {
-                fields.value(cell, line, k + 1, "an empty cell counts as 0")?
-            });
-        }
-        check_table_size(fields, line, row_labels.len(), n)?;
-    }
-    if row_labels.is_empty() {
-        return Err(fields.error(
-            header_line,
+            first_line,
             None,
             "the file has a header but no data rows; expected one line per row species after the header".into(),
         ));
     }
-    let m = row_labels.len();
-    let weights = Array2::from_shape_vec((m, n), values)
+    if !row_labels {
+        labels = (1..=rows).map(|i| format!("r{i}")).collect();
+    }
+    let weights = Array2::from_shape_vec((rows, n), values)
         .map_err(|e| Error::InvalidArgument(format!("internal shape error: {e}")))?;
-    Ok(Table {
-        rows: row_labels,
+    Ok(Some(Table {
+        rows: labels,
         cols: col_labels,
         cells: TableCells::Dense(weights),
-    })
+    }))
 }
 
 /// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag

@@ -285,7 +285,57 @@ fn labels_auto_both_and_none() {
     let got = parse("0,1,1\n1,1,0\n1,0,0\n", &ReadOptions::default()).unwrap();
     assert_eq!(got.network.nrows(), 3);
     assert_eq!("none".parse::<Labels>().unwrap(), Labels::None);
-    assert!("rows".parse::<Labels>().is_err());
+    assert!("row".parse::<Labels>().is_err());
+    for l in Labels::ALL {
+        assert_eq!(l.name().parse::<Labels>().unwrap(), l);
+    }
+}
+
+/// Row labels without a header line, and a header without row labels.
+#[test]
+fn labels_rows_and_cols() {
+    let rows = ReadOptions {
+        labels: Labels::Rows,
+        ..ReadOptions::default()
+    };
+    let got = parse("clover,1,0,1\nthyme,1,1,0\n", &rows).unwrap();
+    assert_eq!(got.network.row_labels(), ["clover", "thyme"]);
+    assert_eq!(got.network.col_labels(), ["c1", "c2", "c3"]);
+    assert_eq!(cells(&got.network), [[1.0, 0.0, 1.0], [1.0, 1.0, 0.0]]);
+    let err = parse("clover,1\nclover,1\n", &rows)
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("line 2, field 1: the row label \"clover\""),
+        "{err}"
+    );
+    let cols = ReadOptions {
+        labels: Labels::Cols,
+        ..ReadOptions::default()
+    };
+    let got = parse("bee,fly\n1,1\n1,0\n", &cols).unwrap();
+    assert_eq!(got.network.row_labels(), ["r1", "r2"]);
+    assert_eq!(got.network.col_labels(), ["bee", "fly"]);
+    assert_eq!(cells(&got.network), [[1.0, 1.0], [1.0, 0.0]]);
+    let err = parse("bee,fly\n", &cols).unwrap_err().to_string();
+    assert!(
+        err.contains("line 1: the file has a header but no data rows"),
+        "{err}"
+    );
+    let err = parse("bee,fly\n1,1,1\n", &cols).unwrap_err().to_string();
+    assert!(
+        err.contains("expected 2 like the header on line 1"),
+        "{err}"
+    );
+    // Without --labels rows, such a file's first line is a header whose
+    // labels repeat: an error naming the field, not a misread.
+    let err = parse("clover,1,0,1\nthyme,1,1,0\n", &ReadOptions::default())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("line 1, field 4: the column label \"1\" repeats"),
+        "{err}"
+    );
 }
 
 #[test]

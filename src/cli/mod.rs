@@ -124,8 +124,8 @@ pub struct LayoutArgs {
     /// For edges: is the first line a header? auto decides (README, "File layouts") and says so on stderr.
     #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
     edge_header: EdgeHeader,
-    /// For matrix: which labels the file has. auto reads a table whose first line and first column are all numbers as unlabelled (rows r1.., columns c1..).
-    #[arg(long, default_value = "auto", value_name = "auto|both|none")]
+    /// For matrix: which labels the file has: both, rows (no header line), cols (no row labels), none. auto reads a table whose first line and first column are all numbers as unlabelled (rows r1.., columns c1..), else as both.
+    #[arg(long, default_value = "auto", value_name = "auto|both|rows|cols|none")]
     labels: Labels,
     /// Keep species without any link (all-zero rows or columns, labels seen only with weight 0); by default they are dropped and listed on stderr.
     #[arg(long)]
