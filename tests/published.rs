@@ -371,3 +371,25 @@ fn temperature_large_random_matrices_score_about_100_5() {
     // 100 itself lies outside the band.
     assert!((mean - 100.0).abs() > tol);
 }
+
+/// The draw-key mixer against an independent implementation: rand_xoshiro's
+/// `SplitMix64` (a translation of Vigna's reference `splitmix64.c`, after
+/// Steele, Lea & Flood 2014) started from state `x` returns
+/// `splitmix64(x)` as its first output.
+#[test]
+fn splitmix64_matches_rand_xoshiro() {
+    use rand::RngCore;
+    use rand_xoshiro::SplitMix64;
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(2014);
+    let mut xs = vec![0u64, 1, u64::MAX];
+    xs.extend((0..200).map(|_| rng.next_u64()));
+    for x in xs {
+        let mut reference = SplitMix64::from_seed(x.to_le_bytes());
+        assert_eq!(
+            nidus::null::splitmix64(x),
+            reference.next_u64(),
+            "x = {x:#x}"
+        );
+    }
+    assert_eq!(nidus::null::splitmix64(0), 0xE220_A839_7B1D_CDAF);
+}
