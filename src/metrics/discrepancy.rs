@@ -31,7 +31,8 @@ use crate::network::{Network, Weight};
 /// input order), discrepancy `= sum_i #{ j : b_ij = 1, pos(j) >= d_i }`.
 /// It is 0 exactly when every row fills its leftmost block, i.e. the matrix
 /// is perfectly nested (Ferrers). The value can depend on how ties among
-/// column degrees are broken; the convention here is input order. It is
+/// column degrees are broken; the convention here is input order
+/// ([`discrepancy_minimum`] gives the least value over tie orders). It is
 /// not symmetric under transposition: `[[1,0,1],[0,1,0]]` scores 2 (with
 /// the columns tied, row 1's one in column 3 and row 2's in column 2 lie
 /// outside their blocks) while its transpose scores 1; putting column 3
