@@ -13,8 +13,22 @@ fn num(v: &Value) -> Option<f64> {
     v.as_f64()
 }
 
+/// The matrix without its all-zero rows and columns (what nidus reads by
+/// default: species without links are dropped).
+fn without_empty(w: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    let keep_cols: Vec<usize> = (0..w[0].len())
+        .filter(|&j| w.iter().any(|r| r[j] > 0.0))
+        .collect();
+    w.iter()
+        .filter(|r| r.iter().any(|&x| x > 0.0))
+        .map(|r| keep_cols.iter().map(|&j| r[j]).collect())
+        .collect()
+}
+
 /// `nidus measure --format json` on matrices it has never seen agrees with
-/// the reference in both orders to 1e-9 (the acceptance check).
+/// the reference in both orders to 1e-9 (the acceptance check):
+/// with `--keep-empty` on the matrix as written, by default on the matrix
+/// without its all-zero rows and columns.
 #[test]
 fn json_matches_reference_on_random_files() {
     let mut rng = rng(99);
@@ -32,7 +46,18 @@ fn json_matches_reference_on_random_files() {
         files.push(p.display().to_string());
         mats.push(w);
     }
-    for (order, sorted) in [("sorted", true), ("given", false)] {
+    let dropped: Vec<Vec<Vec<f64>>> = mats.iter().map(|w| without_empty(w)).collect();
+    assert!(
+        dropped.iter().zip(&mats).any(|(d, w)| d != w),
+        "some random matrix should have an all-zero row or column"
+    );
+    for (order, sorted, keep) in [
+        ("sorted", true, true),
+        ("given", false, true),
+        ("sorted", true, false),
+        ("given", false, false),
+    ] {
+        let mats = if keep { &mats } else { &dropped };
         let mut args = vec![
             "measure",
             "--format",
@@ -42,6 +67,9 @@ fn json_matches_reference_on_random_files() {
             "--indices",
             "nodf,wnodf",
         ];
+        if keep {
+            args.push("--keep-empty");
+        }
         args.extend(files.iter().map(String::as_str));
         let out = nidus(&args);
         assert!(
@@ -52,7 +80,7 @@ fn json_matches_reference_on_random_files() {
         let text = String::from_utf8(out.stdout).unwrap();
         let lines: Vec<&str> = text.lines().collect();
         assert_eq!(lines.len(), files.len());
-        for ((line, w), file) in lines.iter().zip(&mats).zip(&files) {
+        for ((line, w), file) in lines.iter().zip(mats).zip(&files) {
             let v: Value = serde_json::from_str(line).unwrap();
             assert_eq!(v["file"], file.as_str());
             assert_eq!(v["order"], order);
@@ -71,14 +99,15 @@ fn json_matches_reference_on_random_files() {
                     (num(&got["total"]).unwrap() - r.0).abs() < 1e-9,
                     "{file} {key}"
                 );
-                assert!(
-                    (num(&got["rows"]).unwrap() - r.1.unwrap()).abs() < 1e-9,
-                    "{file} {key}"
-                );
-                assert!(
-                    (num(&got["cols"]).unwrap() - r.2.unwrap()).abs() < 1e-9,
-                    "{file} {key}"
-                );
+                for (part, want) in [("rows", r.1), ("cols", r.2)] {
+                    match want {
+                        Some(x) => assert!(
+                            (num(&got[part]).unwrap() - x).abs() < 1e-9,
+                            "{file} {key} {part}"
+                        ),
+                        None => assert!(got[part].is_null(), "{file} {key} {part}"),
+                    }
+                }
             }
         }
     }
@@ -220,4 +249,103 @@ fn malformed_fixtures_exit_2_naming_the_place() {
         seen += 1;
     }
     assert!(seen >= 20, "only {seen} fixtures");
+}
+
+/// Discrepancy in both orientations, stable and tie-minimised, in JSON and
+/// CSV, and every variant as a null-model index. The matrix
+/// `[[1,0,1],[0,1,0]]` is worked by hand from METHODS.md §5: its three
+/// columns tie at degree 1, so input order misplaces two ones (row 1's in
+/// column 3, row 2's in column 2) while the order (1, 3, 2) misplaces one;
+/// its rows have degrees 2 and 1, and in either column order one one of
+/// row 2 (the transpose's column) lies outside its block.
+#[test]
+fn discrepancy_keys_in_json_csv_and_null() {
+    let p = scratch("disc.csv");
+    write_matrix_file(&p, &vec![vec![1.0, 0.0, 1.0], vec![0.0, 1.0, 0.0]]);
+    let f = p.display().to_string();
+    let out = nidus(&[
+        "measure",
+        "--format",
+        "json",
+        "--indices",
+        "discrepancy",
+        &f,
+    ]);
+    assert!(out.status.success());
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(
+        v["discrepancy"],
+        serde_json::json!({"rows": {"stable": 2, "minimum": 1}, "cols": {"stable": 1, "minimum": 1}})
+    );
+    let out = nidus(&["measure", "--format", "csv", "--indices", "discrepancy", &f]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    let mut lines = text.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let row: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let at = |k: &str| row[head.iter().position(|h| *h == k).unwrap()];
+    assert_eq!(
+        [
+            at("discrepancy_rows_stable"),
+            at("discrepancy_rows_minimum"),
+            at("discrepancy_cols_stable"),
+            at("discrepancy_cols_minimum")
+        ],
+        ["2", "1", "1", "1"]
+    );
+    let out = nidus(&[
+        "null",
+        "--format",
+        "json",
+        "--model",
+        "equiprobable",
+        "--draws",
+        "19",
+        "--seed",
+        "3",
+        "--index",
+        "discrepancy,discrepancy-rows-minimum,discrepancy-cols-stable,discrepancy-cols-minimum",
+        &f,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let observed: Vec<(String, f64)> = String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .map(|l| {
+            let v: Value = serde_json::from_str(l).unwrap();
+            (
+                v["index"].as_str().unwrap().to_string(),
+                v["observed"].as_f64().unwrap(),
+            )
+        })
+        .collect();
+    let want = [
+        ("discrepancy", 2.0),
+        ("discrepancy-rows-minimum", 1.0),
+        ("discrepancy-cols-stable", 1.0),
+        ("discrepancy-cols-minimum", 1.0),
+    ];
+    let want: Vec<(String, f64)> = want.iter().map(|(k, x)| (k.to_string(), *x)).collect();
+    assert_eq!(observed, want);
+    // The documented alias of the old name.
+    let out = nidus(&[
+        "null",
+        "--model",
+        "equiprobable",
+        "--draws",
+        "9",
+        "--seed",
+        "1",
+        "--index",
+        "discrepancy-rows-stable",
+        &f,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
 }

@@ -9,18 +9,20 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::index::IndexKind;
-use nidus::io::read_network;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
 use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
 pub use super::emit;
-use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
+    EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct NullArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Null models, comma-separated: equiprobable, proportional, fixed-rows, fixed-columns,
@@ -30,7 +32,7 @@ pub struct NullArgs {
     /// Indices to test (the list comes from the registry of indices).
     #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
           help = format!("Indices to test, comma-separated: {}",
-                         nidus::metrics::registry::names().collect::<Vec<_>>().join(", ")))]
+                         nidus::metrics::registry::help_list()))]
     index: List<IndexKind>,
     /// Number of null draws R.
     #[arg(long, default_value_t = 999, value_name = "R")]
@@ -91,7 +93,7 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
     let mut s = String::new();
     if format == Format::Text {
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<18} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
             run.model,
             run.seed,
             run.draws,
@@ -189,7 +191,7 @@ fn text(kind: IndexKind, x: &NullSummary) -> String {
     };
     let q = format!("{:.2} / {:.2} / {:.2}", x.q025, x.q50, x.q975);
     format!(
-        "  {:<18} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
+        "  {:<24} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
         kind.name(),
         x.observed,
         x.mean,
@@ -244,6 +246,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         )));
     }
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let mut saved = match &args.save_draws {
         Some(p) => Some((
             p.clone(),
@@ -265,9 +268,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     }
     let mut failed = 0usize;
     'files: for file in &args.files {
-        let shown = file.display().to_string();
-        let net = match read_network(file, &read) {
-            Ok(n) => n,
+        let shown = input_name(file);
+        let net = match read_input(file, &read) {
+            Ok(r) => r.network,
             Err(e) => {
                 failed += 1;
                 report_failure(&shown, &e);

@@ -16,7 +16,9 @@ pub mod spectral;
 pub mod temperature;
 pub mod wnodf;
 
-pub use discrepancy::discrepancy;
+pub use discrepancy::{
+    discrepancies, discrepancy, discrepancy_minimum, Discrepancy, DiscrepancyTies,
+};
 pub use nodf::{nodf, Nodf};
 pub use registry::{lookup, BuiltinStatistic, Direction, IndexOptions, Statistic, BUILTINS};
 pub use spectral::{spectral_radius, SpectralRadius};

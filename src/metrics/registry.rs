@@ -112,66 +112,23 @@ impl Builtin {
     }
 }
 
-/// Every built-in scalar index, in listing order: the one table.
+/// Every built-in scalar index, in listing order: the one table (one line
+/// per index: name, `measure` family, help, direction, reads weights,
+/// evaluator).
+#[rustfmt::skip]
 pub static BUILTINS: &[Builtin] = &[
     b("nodf", "nodf", "NODF, both sides", G, false, nodf::total),
-    b(
-        "nodf-rows",
-        "nodf",
-        "NODF, pairs of rows only",
-        G,
-        false,
-        nodf::rows,
-    ),
-    b(
-        "nodf-cols",
-        "nodf",
-        "NODF, pairs of columns only",
-        G,
-        false,
-        nodf::cols,
-    ),
+    b("nodf-rows", "nodf", "NODF, pairs of rows only", G, false, nodf::rows),
+    b("nodf-cols", "nodf", "NODF, pairs of columns only", G, false, nodf::cols),
     b("wnodf", "wnodf", "weighted NODF", G, true, wnodf::total),
-    b(
-        "temperature",
-        "temperature",
-        "temperature, packed order",
-        L,
-        false,
-        temperature::packed,
-    ),
-    b(
-        "temperature-sorted",
-        "temperature",
-        "temperature, degree-sorted order",
-        L,
-        false,
-        temperature::sorted,
-    ),
-    b(
-        "spectral",
-        "spectral",
-        "spectral radius of the binary view",
-        G,
-        false,
-        spectral::binary,
-    ),
-    b(
-        "spectral-weighted",
-        "spectral",
-        "spectral radius of the weights",
-        G,
-        true,
-        spectral::weighted,
-    ),
-    b(
-        "discrepancy",
-        "discrepancy",
-        "discrepancy (Brualdi & Sanderson 1999)",
-        L,
-        false,
-        discrepancy::count,
-    ),
+    b("temperature", "temperature", "temperature, packed order", L, false, temperature::packed),
+    b("temperature-sorted", "temperature", "temperature, degree-sorted order", L, false, temperature::sorted),
+    b("spectral", "spectral", "spectral radius of the binary view", G, false, spectral::binary),
+    b("spectral-weighted", "spectral", "spectral radius of the weights", G, true, spectral::weighted),
+    b("discrepancy", "discrepancy", "discrepancy, ones moved within rows, ties in input order", L, false, discrepancy::rows_stable),
+    b("discrepancy-rows-minimum", "discrepancy", "discrepancy, ones moved within rows, tie-minimised", L, false, discrepancy::rows_minimum),
+    b("discrepancy-cols-stable", "discrepancy", "discrepancy, ones moved within columns, ties in input order", L, false, discrepancy::cols_stable),
+    b("discrepancy-cols-minimum", "discrepancy", "discrepancy, ones moved within columns, tie-minimised", L, false, discrepancy::cols_minimum),
 ];
 
 const G: Direction = Direction::Greater;
@@ -195,7 +152,11 @@ const fn b(
     }
 }
 
-/// The built-in index called `name`; the error lists every name.
+/// Other names accepted for a built-in index: `(alias, name)`.
+pub static ALIASES: &[(&str, &str)] = &[("discrepancy-rows-stable", "discrepancy")];
+
+/// The built-in index called `name` (or one of its [`ALIASES`]); the error
+/// lists every name.
 ///
 /// # Example
 /// ```
@@ -207,6 +168,7 @@ const fn b(
 /// assert!(lookup("nope").is_err());
 /// ```
 pub fn lookup(name: &str) -> Result<&'static Builtin> {
+    let name = ALIASES.iter().find(|a| a.0 == name).map_or(name, |a| a.1);
     BUILTINS.iter().find(|e| e.name == name).ok_or_else(|| {
         Error::InvalidArgument(format!(
             "unknown index '{name}': expected one of {}",
@@ -218,6 +180,18 @@ pub fn lookup(name: &str) -> Result<&'static Builtin> {
 /// The names of the built-in indices, in listing order.
 pub fn names() -> impl Iterator<Item = &'static str> {
     BUILTINS.iter().map(|e| e.name)
+}
+
+/// The names for a help text: `nodf, ..., discrepancy (= discrepancy-rows-stable), ...`.
+pub fn help_list() -> String {
+    BUILTINS
+        .iter()
+        .map(|e| match ALIASES.iter().find(|a| a.1 == e.name) {
+            Some(a) => format!("{} (= {})", e.name, a.0),
+            None => e.name.to_string(),
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// The `measure` families, in listing order, each once.

@@ -20,7 +20,9 @@
 //! norm (`beta_k |s_k|`), `r2` the second Ritz value's, and `g` the distance
 //! between the two Ritz values less `r + r2`. There is an eigenvalue within
 //! `r` of `theta`, and within `r^2 / g` once `g` reflects the true gap
-//! (Parlett, *The Symmetric Eigenvalue Problem*, 1998, §11.7, from memory).
+//! (Parlett, *The Symmetric Eigenvalue Problem*, 1998; the bound's exact
+//! form and its place in the book are recalled, not checked: the stopping
+//! rule's accuracy is instead checked in the tests against an SVD).
 //! The method stops when `r <= 1e-12 theta`; or when `g > 0`,
 //! `r^2 <= 1e-12 theta g` and `theta` changed by at most `1e-12 theta` in the
 //! last step; or when the Krylov space is invariant (`beta_k` negligible).

@@ -110,7 +110,8 @@ pub(crate) fn lanczos_top(
             // Three-term recurrence, then one classical Gram-Schmidt pass
             // against the whole basis, and a second pass only when the
             // first removed much of the vector ("twice is enough": Parlett,
-            // The Symmetric Eigenvalue Problem, 1998, §6.9, from memory).
+            // The Symmetric Eigenvalue Problem, 1998, who credits it to
+            // Kahan; recalled, and the place in the book not checked).
             let mut a = dot(&basis[k], &w);
             axpy(-a, &basis[k], &mut w);
             if k > 0 {
@@ -213,7 +214,9 @@ pub(crate) fn lanczos_top(
 /// The long phase: Lanczos without reorthogonalisation or restarts, for a
 /// crowded top of the spectrum where a short restarted basis converges too
 /// slowly. Memory `O(d)` plus `O(k)` scalars. Lost orthogonality only makes
-/// copies of converged Ritz values (Paige 1976, from memory); the largest
+/// copies of converged Ritz values (Paige's finding, as summarised by Bai et
+/// al. 2000, Templates for the Solution of Algebraic Eigenvalue Problems,
+/// SIAM, §4.4; the year 1976 of Paige's paper is recalled); the largest
 /// Ritz value still rises monotonically towards the largest eigenvalue, so
 /// it is tracked by Sturm-sequence bisection every tenth of the run, and the
 /// method stops when it changed by at most `1e-13` relative over the last
