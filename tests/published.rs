@@ -148,11 +148,7 @@ fn britton_nodf_is_100_only_for_full_triangles() {
             cols.swap(k, rng.random_range(0..=k));
         }
         let p = t.permuted(&rows, &cols);
-        assert_eq!(
-            nodf(&p, Order::Sorted).unwrap().total,
-            100.0,
-            "n = {n}"
-        );
+        assert_eq!(nodf(&p, Order::Sorted).unwrap().total, 100.0, "n = {n}");
         assert_eq!(nodf(&t, Order::Given).unwrap().total, 100.0, "n = {n}");
         // Near misses: one cell removed from the triangle's edge (two rows
         // or two columns then tie), one cell added below it, and the
@@ -300,8 +296,7 @@ fn temperature_random_mean_is_one_twentyfourth() {
         pack: false,
         ..Default::default()
     };
-    let sum = temperature(&m, &opts).unwrap().given
-        + temperature(&c, &opts).unwrap().given;
+    let sum = temperature(&m, &opts).unwrap().given + temperature(&c, &opts).unwrap().given;
     let want = 100.0 * mean_weight(n) / U_MAX;
     assert!((sum - want).abs() < 1e-9 * want, "{sum} vs {want}");
 }
