@@ -1,0 +1,534 @@
+//! The incremental NODF engine: NODF (sorted order) of the observed network
+//! with one species' cells replaced, without recomputing the whole index.
+//!
+//! # What is kept and what is updated
+//! NODF's row part is `sum over rows l with d_l > 0 of 100 ov_l / d_l`,
+//! where `ov_l` sums the overlaps of row `l` with every row of larger degree
+//! (METHODS.md §1); the column part likewise. The engine keeps, for both
+//! sides, the degrees, the integer sums `ov`, the quotients
+//! `100 ov_l / d_l`, the pairwise overlap table of each side (when it fits,
+//! see [`OVERLAP_TABLE_LIMIT`]) and each side's members grouped by degree.
+//!
+//! When row `i` is replaced (old cells `a`, new cells `a'`):
+//! * **Its own side.** Only pairs `(i, l)` change: the new overlaps of row
+//!   `i` with every other row are `m - 1` popcounts of bit-packed rows
+//!   (`O(m n / 64)`); each `ov_l` moves by
+//!   `[d'_i > d_l] o'_il - [d_i > d_l] o_il`, the old overlaps `o_il` being
+//!   counted once per species ([`NodfEngine::focus`]).
+//! * **The other side.** Let `G` be the columns gained (`a = 0, a' = 1`),
+//!   `Lo` those lost, `K` those kept (`a = a' = 1`), `D = G ∪ Lo`. Only
+//!   columns in `D` change degree (by +1 or -1), and the overlap of two
+//!   columns changes only when one of them is in `D`. Writing
+//!   `c` for the old column degrees and `O_ul` for old column overlaps,
+//!   `ov'_l - ov_l` is, for a column `l` outside `D` (`b = a_l`):
+//!   `sum_{u in G, c_u = c_l} O_ul - sum_{u in Lo, c_u = c_l + 1} O_ul
+//!    + b (#{u in G: c_u >= c_l} - #{u in Lo: c_u >= c_l + 2})`;
+//!   for `l` in `G`:
+//!   `- sum_{u not in G, c_u = c_l + 1} O_ul - sum_{u in Lo, c_u = c_l + 2} O_ul
+//!    + #{u in K: c_u >= c_l + 2} + #{u in G: c_u > c_l}`;
+//!   for `l` in `Lo`:
+//!   `sum_{u != l, u not in Lo, c_u = c_l} O_ul + sum_{u in G, c_u = c_l - 1} O_ul
+//!    - #{u in K: c_u >= c_l} - #{u in Lo: c_u > c_l}`.
+//!   (Each case follows from `[c'_u > c'_l] O'_ul - [c_u > c_l] O_ul` with
+//!   `c' = c ± 1` and `O'_ul = O_ul + a'_u a'_l - a_u a_l`.) The sums run over
+//!   one or two degree classes per member of `D`, the counts are binary
+//!   searches in the sorted degrees of `G`, `Lo` and `K`, so this side costs
+//!   `O(|D| s)` with `s` the size of a degree class, instead of `O(|D| n)`.
+//!
+//! The index is then the sum of the quotients in member order (unchanged
+//! quotients are reused, changed ones divided again), exactly as
+//! [`crate::metrics::nodf_bits`] adds them, so the value is the full
+//! recomputation's to the last bit (tests: `tests/species.rs`). A column
+//! species is handled the same way on the transposed matrix.
+
+use rayon::prelude::*;
+
+use crate::bits::BitMatrix;
+use crate::error::{Error, Result};
+use crate::kernels::popcount::{PanelKernel, PopcountPath, PANEL};
+use crate::metrics::{nodf::upper_overlaps, Order, Parts};
+
+/// A pairwise overlap table of one side is stored only when it has at most
+/// this many entries (2^24 `u32`: 64 MiB, e.g. 4096 members); above it the
+/// engine counts each overlap it needs with popcounts (`O(m / 64)` each).
+pub const OVERLAP_TABLE_LIMIT: usize = 1 << 24;
+
+/// Which side a species belongs to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize)]
+pub enum Side {
+    /// A row species (for example a plant).
+    #[serde(rename = "row")]
+    Row,
+    /// A column species (for example a visitor).
+    #[serde(rename = "col")]
+    Col,
+}
+
+impl Side {
+    /// `row` or `col`, as in the output.
+    pub fn name(self) -> &'static str {
+        match self {
+            Side::Row => "row",
+            Side::Col => "col",
+        }
+    }
+}
+
+/// What the engine keeps for one side: rows of `bits` are that side's
+/// members.
+#[derive(Clone, Debug)]
+struct SideState {
+    bits: BitMatrix,
+    deg: Vec<usize>,
+    ov: Vec<u64>,
+    term: Vec<f64>,
+    /// `table[u * k + l]`: overlap of members `u` and `l` (None: too large).
+    table: Option<Vec<u32>>,
+    /// Members with degree `c` are `class_members[class_ptr[c]..class_ptr[c + 1]]`.
+    class_ptr: Vec<usize>,
+    class_members: Vec<u32>,
+}
+
+impl SideState {
+    fn new(bits: BitMatrix, table_limit: usize) -> SideState {
+        let k = bits.nrows();
+        let deg = bits.row_degrees();
+        let ov = upper_overlaps(&bits, Order::Sorted);
+        let term = deg.iter().zip(&ov).map(|(&d, &o)| quotient(o, d)).collect();
+        let table = (k.saturating_mul(k) <= table_limit).then(|| overlap_table(&bits));
+        let max = deg.iter().copied().max().unwrap_or(0);
+        let mut class_ptr = vec![0usize; max + 2];
+        for &d in &deg {
+            class_ptr[d + 1] += 1;
+        }
+        for c in 0..=max {
+            class_ptr[c + 1] += class_ptr[c];
+        }
+        let mut next = class_ptr.clone();
+        let mut class_members = vec![0u32; k];
+        for (u, &d) in deg.iter().enumerate() {
+            class_members[next[d]] = u as u32;
+            next[d] += 1;
+        }
+        SideState {
+            bits,
+            deg,
+            ov,
+            term,
+            table,
+            class_ptr,
+            class_members,
+        }
+    }
+
+    fn len(&self) -> usize {
+        self.deg.len()
+    }
+
+    /// Members whose degree is `c` (empty beyond the largest degree).
+    #[inline]
+    fn class(&self, c: usize) -> &[u32] {
+        if c + 1 >= self.class_ptr.len() {
+            return &[];
+        }
+        &self.class_members[self.class_ptr[c]..self.class_ptr[c + 1]]
+    }
+
+    /// Overlap of members `u` and `l` in the observed network.
+    #[inline]
+    fn overlap(&self, u: usize, l: usize) -> i64 {
+        match &self.table {
+            Some(t) => i64::from(t[u * self.len() + l]),
+            None => self.bits.overlap(u, l) as i64,
+        }
+    }
+}
+
+/// `100 o / d` exactly as NODF divides (0 for an empty member, never added).
+#[inline]
+fn quotient(o: u64, d: usize) -> f64 {
+    if d == 0 {
+        0.0
+    } else {
+        100.0 * o as f64 / d as f64
+    }
+}
+
+/// All pairwise overlaps of the rows of `b`, `k x k`, in parallel over rows.
+fn overlap_table(b: &BitMatrix) -> Vec<u32> {
+    let k = b.nrows();
+    let w = b.words_per_row();
+    let kernel = PanelKernel::new(PopcountPath::detect());
+    let mut t = vec![0u32; k * k];
+    if k == 0 {
+        return t;
+    }
+    t.par_chunks_mut(k).enumerate().for_each(|(u, out)| {
+        let mut pc = [0u64; PANEL];
+        let words = b.as_words();
+        let mut p0 = 0;
+        while p0 < k {
+            let p1 = (p0 + PANEL).min(k);
+            kernel.run(b.row(u), &words[p0 * w..p1 * w], &mut pc);
+            for l in p0..p1 {
+                out[l] = pc[l - p0] as u32;
+            }
+            p0 = p1;
+        }
+    });
+    t
+}
+
+/// NODF (sorted order) of a binary matrix with one species' cells replaced,
+/// computed incrementally from the observed network (see the [module
+/// documentation](self) for the method).
+///
+/// Cost: building, one NODF plus the pairwise overlap tables of both sides
+/// (`O((m^2 n + n^2 m) / 64)`, memory `4 (m^2 + n^2)` bytes up to
+/// [`OVERLAP_TABLE_LIMIT`] entries per side); [`focus`](Self::focus) on a
+/// species, `O(k n / 64)` for `k` members of its side; each
+/// [`nodf_with`](Self::nodf_with), `O(k n / 64 + |D| s + m + n)` with `|D|`
+/// the cells that changed and `s` the size of a degree class of the other
+/// side.
+///
+/// Reference: NODF of Almeida-Neto et al. (2008), Oikos 117:1227-1239; the
+/// one-species re-draws it serves are those of Saavedra et al. (2011),
+/// Nature 478:233-235.
+///
+/// # Example
+/// ```
+/// use nidus::analyses::species::{NodfEngine, Side};
+/// use nidus::metrics::{nodf_bits, Order};
+/// use nidus::BitMatrix;
+/// let b = BitMatrix::from_fn(4, 5, |i, j| j + i < 5); // a staircase
+/// let engine = NodfEngine::new(&b).unwrap();
+/// assert_eq!(engine.observed(), 100.0);
+/// // Replace row 3's cells by columns {1, 4}.
+/// let mut scratch = engine.scratch();
+/// engine.focus(Side::Row, 3, &mut scratch);
+/// let new_cells = [0b10010u64];
+/// let mut changed = b.clone();
+/// changed.row_mut(3).copy_from_slice(&new_cells);
+/// let full = nodf_bits(&changed, Order::Sorted).unwrap().total;
+/// assert_eq!(engine.nodf_with(&new_cells, &mut scratch), full);
+/// ```
+#[derive(Clone, Debug)]
+pub struct NodfEngine {
+    rows: SideState,
+    cols: SideState,
+    observed: f64,
+}
+
+/// Per-thread working memory of a [`NodfEngine`], tied to one species by
+/// [`NodfEngine::focus`].
+#[derive(Clone, Debug)]
+pub struct Scratch {
+    side: Side,
+    index: usize,
+    /// Overlaps of the focused species' observed cells with its side's members.
+    old: Vec<u64>,
+    /// The same for the replacement cells.
+    new: Vec<u64>,
+    /// Changes of `ov` of the other side (all zero between calls).
+    delta: Vec<i64>,
+    gained: Vec<u32>,
+    lost: Vec<u32>,
+    kept: Vec<u32>,
+    gained_deg: Vec<usize>,
+    lost_deg: Vec<usize>,
+    kept_deg: Vec<usize>,
+}
+
+impl NodfEngine {
+    /// Prepares the engine for `b`.
+    ///
+    /// Errors: a 1 x 1 matrix (NODF has no pairs), or a shape whose sides
+    /// are too large to index with `u32`.
+    pub fn new(b: &BitMatrix) -> Result<NodfEngine> {
+        Self::with_table_limit(b, OVERLAP_TABLE_LIMIT)
+    }
+
+    /// [`new`](Self::new) with another limit on the overlap tables (0: never
+    /// store them, count every overlap on the fly). For tests and timing;
+    /// the values do not depend on it.
+    pub fn with_table_limit(b: &BitMatrix, table_limit: usize) -> Result<NodfEngine> {
+        if b.nrows() > u32::MAX as usize || b.ncols() > u32::MAX as usize {
+            return Err(Error::InvalidArgument(format!(
+                "a {} x {} matrix is too large for the species engine",
+                b.nrows(),
+                b.ncols()
+            )));
+        }
+        let observed = crate::metrics::nodf_bits(b, Order::Sorted)?.total;
+        let (rows, cols) = rayon::join(
+            || SideState::new(b.clone(), table_limit),
+            || SideState::new(b.transpose(), table_limit),
+        );
+        Ok(NodfEngine {
+            rows,
+            cols,
+            observed,
+        })
+    }
+
+    /// NODF (sorted order) of the observed matrix.
+    pub fn observed(&self) -> f64 {
+        self.observed
+    }
+
+    /// Rows `m`.
+    pub fn nrows(&self) -> usize {
+        self.rows.len()
+    }
+
+    /// Columns `n`.
+    pub fn ncols(&self) -> usize {
+        self.cols.len()
+    }
+
+    /// Observed degrees of one side.
+    pub fn degrees(&self, side: Side) -> &[usize] {
+        &self.sides(side).0.deg
+    }
+
+    /// The observed cells of species `index` of `side`, bit-packed
+    /// (`ceil(k / 64)` words for `k` members of the other side).
+    pub fn cells(&self, side: Side, index: usize) -> &[u64] {
+        self.sides(side).0.bits.row(index)
+    }
+
+    /// Words of a species' cells on `side` (the other side's size / 64, rounded up).
+    pub fn words(&self, side: Side) -> usize {
+        self.sides(side).0.bits.words_per_row()
+    }
+
+    /// Working memory for [`focus`](Self::focus) and
+    /// [`nodf_with`](Self::nodf_with); one per thread.
+    pub fn scratch(&self) -> Scratch {
+        let big = self.nrows().max(self.ncols());
+        Scratch {
+            side: Side::Row,
+            index: usize::MAX,
+            old: vec![0; big],
+            new: vec![0; big],
+            delta: vec![0; big],
+            gained: Vec::new(),
+            lost: Vec::new(),
+            kept: Vec::new(),
+            gained_deg: Vec::new(),
+            lost_deg: Vec::new(),
+            kept_deg: Vec::new(),
+        }
+    }
+
+    /// (the species' side, the other side)
+    fn sides(&self, side: Side) -> (&SideState, &SideState) {
+        match side {
+            Side::Row => (&self.rows, &self.cols),
+            Side::Col => (&self.cols, &self.rows),
+        }
+    }
+
+    /// Ties `scratch` to species `index` of `side`: counts the overlaps of
+    /// its observed cells with every member of its side. Cost `O(k n / 64)`.
+    ///
+    /// Panics when `index` is out of range.
+    pub fn focus(&self, side: Side, index: usize, scratch: &mut Scratch) {
+        let (own, _) = self.sides(side);
+        assert!(index < own.len(), "species {index} out of range");
+        scratch.side = side;
+        scratch.index = index;
+        overlaps_with(
+            &own.bits,
+            own.bits.row(index),
+            &mut scratch.old[..own.len()],
+        );
+    }
+
+    /// NODF (sorted order, as [`crate::metrics::nodf_bits`] computes it) of
+    /// the observed matrix with the focused species' cells replaced by
+    /// `cells` (bit-packed like [`cells`](Self::cells); padding bits zero).
+    ///
+    /// Panics when no species is focused or `cells` has the wrong length.
+    pub fn nodf_with(&self, cells: &[u64], s: &mut Scratch) -> f64 {
+        assert!(s.index != usize::MAX, "focus on a species first");
+        let (own, other) = self.sides(s.side);
+        let i = s.index;
+        assert_eq!(
+            cells.len(),
+            own.bits.words_per_row(),
+            "wrong number of words"
+        );
+        let own_sum = self.own_side_sum(own, i, cells, s);
+        let other_sum = self.other_side_sum(other, own.bits.row(i), cells, s);
+        let (rows, cols) = match s.side {
+            Side::Row => (own_sum, other_sum),
+            Side::Col => (other_sum, own_sum),
+        };
+        Parts::from_sums("NODF", self.nrows(), self.ncols(), rows, cols)
+            .map(|p| p.total)
+            .expect("the engine was built for a matrix with pairs")
+    }
+
+    /// Sum of the quotients of the species' own side after the change.
+    fn own_side_sum(&self, own: &SideState, i: usize, cells: &[u64], s: &mut Scratch) -> f64 {
+        let k = own.len();
+        overlaps_with(&own.bits, cells, &mut s.new[..k]);
+        let d_old = own.deg[i];
+        let d_new: usize = cells.iter().map(|w| w.count_ones() as usize).sum();
+        let (old, new) = (&s.old[..k], &s.new[..k]);
+        let ov_i: u64 = (0..k)
+            .filter(|&l| l != i && own.deg[l] > d_new)
+            .map(|l| new[l])
+            .sum();
+        (0..k)
+            .filter_map(|l| {
+                if l == i {
+                    return (d_new > 0).then(|| quotient(ov_i, d_new));
+                }
+                let d = own.deg[l];
+                if d == 0 {
+                    return None;
+                }
+                let before = if d_old > d { old[l] } else { 0 };
+                let after = if d_new > d { new[l] } else { 0 };
+                Some(if before == after {
+                    own.term[l]
+                } else {
+                    quotient(own.ov[l] - before + after, d)
+                })
+            })
+            .sum()
+    }
+
+    /// Sum of the quotients of the other side after the change.
+    fn other_side_sum(&self, o: &SideState, old: &[u64], new: &[u64], s: &mut Scratch) -> f64 {
+        let bit = |w: &[u64], u: usize| (w[u / 64] >> (u % 64)) & 1 == 1;
+        // Classify the changed and kept members.
+        s.gained.clear();
+        s.lost.clear();
+        s.kept.clear();
+        for (k, (&a, &b)) in old.iter().zip(new).enumerate() {
+            push_ones(&mut s.gained, b & !a, k);
+            push_ones(&mut s.lost, a & !b, k);
+            push_ones(&mut s.kept, a & b, k);
+        }
+        for (list, degs) in [
+            (&s.gained, &mut s.gained_deg),
+            (&s.lost, &mut s.lost_deg),
+            (&s.kept, &mut s.kept_deg),
+        ] {
+            degs.clear();
+            degs.extend(list.iter().map(|&u| o.deg[u as usize]));
+            degs.sort_unstable();
+        }
+        let ge = |v: &[usize], t: usize| (v.len() - v.partition_point(|&x| x < t)) as i64;
+        let in_d = |u: usize| bit(old, u) != bit(new, u);
+        let delta = &mut s.delta;
+        // Columns outside D: pairs with a gained or lost member.
+        for &u in &s.gained {
+            let u = u as usize;
+            for &l in o.class(o.deg[u]) {
+                let l = l as usize;
+                if !in_d(l) {
+                    delta[l] += o.overlap(u, l);
+                }
+            }
+        }
+        for &u in &s.lost {
+            let u = u as usize;
+            for &l in o.class(o.deg[u] - 1) {
+                let l = l as usize;
+                if !in_d(l) {
+                    delta[l] -= o.overlap(u, l);
+                }
+            }
+        }
+        for &l in &s.kept {
+            let c = o.deg[l as usize];
+            delta[l as usize] += ge(&s.gained_deg, c) - ge(&s.lost_deg, c + 2);
+        }
+        // Gained columns.
+        for &l in &s.gained {
+            let l = l as usize;
+            let c = o.deg[l];
+            let mut x = ge(&s.kept_deg, c + 2) + ge(&s.gained_deg, c + 1);
+            for &u in o.class(c + 1) {
+                let u = u as usize;
+                if !(bit(new, u) && !bit(old, u)) {
+                    x -= o.overlap(u, l);
+                }
+            }
+            for &u in o.class(c + 2) {
+                let u = u as usize;
+                if bit(old, u) && !bit(new, u) {
+                    x -= o.overlap(u, l);
+                }
+            }
+            delta[l] += x;
+        }
+        // Lost columns.
+        for &l in &s.lost {
+            let l = l as usize;
+            let c = o.deg[l];
+            let mut x = -ge(&s.kept_deg, c) - ge(&s.lost_deg, c + 1);
+            for &u in o.class(c) {
+                let u = u as usize;
+                if u != l && !(bit(old, u) && !bit(new, u)) {
+                    x += o.overlap(u, l);
+                }
+            }
+            for &u in o.class(c - 1) {
+                let u = u as usize;
+                if bit(new, u) && !bit(old, u) {
+                    x += o.overlap(u, l);
+                }
+            }
+            delta[l] += x;
+        }
+        // The sum in member order; every delta is reset to zero on the way.
+        (0..o.len())
+            .filter_map(|l| {
+                let x = std::mem::take(&mut delta[l]);
+                let d = o.deg[l] + usize::from(bit(new, l)) - usize::from(bit(old, l));
+                if d == 0 {
+                    return None;
+                }
+                Some(if x == 0 && d == o.deg[l] {
+                    o.term[l]
+                } else {
+                    quotient((o.ov[l] as i64 + x) as u64, d)
+                })
+            })
+            .sum()
+    }
+}
+
+/// Appends `64 k + b` for every set bit `b` of `w`.
+#[inline]
+fn push_ones(out: &mut Vec<u32>, mut w: u64, k: usize) {
+    while w != 0 {
+        out.push((k * 64 + w.trailing_zeros() as usize) as u32);
+        w &= w - 1;
+    }
+}
+
+/// `out[l] = |row ∩ bits.row(l)|` for every row `l` of `bits`.
+fn overlaps_with(bits: &BitMatrix, row: &[u64], out: &mut [u64]) {
+    let k = bits.nrows();
+    let w = bits.words_per_row();
+    let kernel = PanelKernel::new(PopcountPath::detect());
+    let words = bits.as_words();
+    let mut pc = [0u64; PANEL];
+    let mut p0 = 0;
+    while p0 < k {
+        let p1 = (p0 + PANEL).min(k);
+        if w == 0 {
+            out[p0..p1].fill(0);
+        } else {
+            kernel.run(row, &words[p0 * w..p1 * w], &mut pc);
+            out[p0..p1].copy_from_slice(&pc[..p1 - p0]);
+        }
+        p0 = p1;
+    }
+}
