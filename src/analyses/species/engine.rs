@@ -75,27 +75,31 @@ impl Side {
 }
 
 /// What the engine keeps for one side: rows of `bits` are that side's
-/// members.
+/// members. "Positions" order the members by degree (ties by index), so
+/// each degree class is one range of positions.
 #[derive(Clone, Debug)]
 struct SideState {
     bits: BitMatrix,
     deg: Vec<usize>,
     ov: Vec<u64>,
     term: Vec<f64>,
-    /// `table[u * k + l]`: overlap of members `u` and `l` (None: too large).
+    /// `table[p * k + q]`: overlap of the members at positions `p` and `q`
+    /// (None: too large, overlaps are counted when needed).
     table: Option<Vec<u32>>,
-    /// Members with degree `c` are `class_members[class_ptr[c]..class_ptr[c + 1]]`.
+    /// Positions of degree `c` are `class_ptr[c]..class_ptr[c + 1]`.
     class_ptr: Vec<usize>,
-    class_members: Vec<u32>,
+    /// The member at each position.
+    member: Vec<u32>,
+    /// The position of each member.
+    pos: Vec<u32>,
 }
 
 impl SideState {
-    fn new(bits: BitMatrix, table_limit: usize) -> SideState {
+    fn new(bits: BitMatrix, table_limit: usize, other_len: usize) -> SideState {
         let k = bits.nrows();
         let deg = bits.row_degrees();
         let ov = upper_overlaps(&bits, Order::Sorted);
         let term = deg.iter().zip(&ov).map(|(&d, &o)| quotient(o, d)).collect();
-        let table = (k.saturating_mul(k) <= table_limit).then(|| overlap_table(&bits));
         let max = deg.iter().copied().max().unwrap_or(0);
         let mut class_ptr = vec![0usize; max + 2];
         for &d in &deg {
@@ -105,11 +109,24 @@ impl SideState {
             class_ptr[c + 1] += class_ptr[c];
         }
         let mut next = class_ptr.clone();
-        let mut class_members = vec![0u32; k];
+        let mut member = vec![0u32; k];
+        let mut pos = vec![0u32; k];
         for (u, &d) in deg.iter().enumerate() {
-            class_members[next[d]] = u as u32;
+            member[next[d]] = u as u32;
+            pos[u] = next[d] as u32;
             next[d] += 1;
         }
+        // The i32 changes of `ov` stay far from overflow: at most `k`
+        // members change, each by at most `other_len`.
+        let fits = k.saturating_mul(k) <= table_limit
+            && (k as u128) * (other_len as u128) < (i32::MAX as u128);
+        let table = fits.then(|| {
+            let mut sorted = BitMatrix::zeros(k, bits.ncols());
+            for (p, &u) in member.iter().enumerate() {
+                sorted.row_mut(p).copy_from_slice(bits.row(u as usize));
+            }
+            overlap_table(&sorted)
+        });
         SideState {
             bits,
             deg,
@@ -117,7 +134,8 @@ impl SideState {
             term,
             table,
             class_ptr,
-            class_members,
+            member,
+            pos,
         }
     }
 
@@ -125,21 +143,44 @@ impl SideState {
         self.deg.len()
     }
 
-    /// Members whose degree is `c` (empty beyond the largest degree).
+    /// Positions of degree `c` (empty beyond the largest degree).
     #[inline]
-    fn class(&self, c: usize) -> &[u32] {
+    fn class(&self, c: usize) -> std::ops::Range<usize> {
         if c + 1 >= self.class_ptr.len() {
-            return &[];
+            return 0..0;
         }
-        &self.class_members[self.class_ptr[c]..self.class_ptr[c + 1]]
+        self.class_ptr[c]..self.class_ptr[c + 1]
     }
 
-    /// Overlap of members `u` and `l` in the observed network.
+    /// Overlaps of the member at position `p` with the members at the
+    /// positions `range`: a slice of the table, or counted into `buf`.
     #[inline]
-    fn overlap(&self, u: usize, l: usize) -> i64 {
+    fn overlaps<'a>(
+        &'a self,
+        p: usize,
+        range: std::ops::Range<usize>,
+        buf: &'a mut Vec<u32>,
+    ) -> &'a [u32] {
         match &self.table {
-            Some(t) => i64::from(t[u * self.len() + l]),
-            None => self.bits.overlap(u, l) as i64,
+            Some(t) => &t[p * self.len() + range.start..p * self.len() + range.end],
+            None => {
+                let u = self.member[p] as usize;
+                buf.clear();
+                buf.extend(range.map(|q| self.bits.overlap(u, self.member[q] as usize) as u32));
+                buf
+            }
+        }
+    }
+
+    /// Overlap of the members at positions `p` and `q`.
+    #[inline]
+    fn overlap_at(&self, p: usize, q: usize) -> i32 {
+        match &self.table {
+            Some(t) => t[p * self.len() + q] as i32,
+            None => self
+                .bits
+                .overlap(self.member[p] as usize, self.member[q] as usize)
+                as i32,
         }
     }
 }
@@ -229,21 +270,21 @@ pub struct Scratch {
     old: Vec<u64>,
     /// The same for the replacement cells.
     new: Vec<u64>,
-    /// Changes of `ov` of the other side (all zero between calls).
-    delta: Vec<i64>,
-    gained: Vec<u32>,
-    lost: Vec<u32>,
-    kept: Vec<u32>,
-    gained_deg: Vec<usize>,
-    lost_deg: Vec<usize>,
-    kept_deg: Vec<usize>,
+    /// Changes of `ov` of the other side, by position (all zero between calls).
+    delta: Vec<i32>,
+    /// Overlaps counted on the fly when a side has no table.
+    buf: Vec<u32>,
+    /// `(degree, position)` of the other side's members gained, lost, kept.
+    gained: Vec<(u32, u32)>,
+    lost: Vec<(u32, u32)>,
+    kept: Vec<(u32, u32)>,
 }
 
 impl NodfEngine {
     /// Prepares the engine for `b`.
     ///
-    /// Errors: a 1 x 1 matrix (NODF has no pairs), or a shape whose sides
-    /// are too large to index with `u32`.
+    /// Errors: a 1 x 1 matrix (NODF has no pairs), or `m n >= 2^31 - 1`
+    /// cells (beyond the bit-packed view's limit anyway).
     pub fn new(b: &BitMatrix) -> Result<NodfEngine> {
         Self::with_table_limit(b, OVERLAP_TABLE_LIMIT)
     }
@@ -252,7 +293,8 @@ impl NodfEngine {
     /// store them, count every overlap on the fly). For tests and timing;
     /// the values do not depend on it.
     pub fn with_table_limit(b: &BitMatrix, table_limit: usize) -> Result<NodfEngine> {
-        if b.nrows() > u32::MAX as usize || b.ncols() > u32::MAX as usize {
+        // Changes of `ov` are kept in i32: they stay below m n in size.
+        if (b.nrows() as u128) * (b.ncols() as u128) >= i32::MAX as u128 {
             return Err(Error::InvalidArgument(format!(
                 "a {} x {} matrix is too large for the species engine",
                 b.nrows(),
@@ -261,8 +303,8 @@ impl NodfEngine {
         }
         let observed = crate::metrics::nodf_bits(b, Order::Sorted)?.total;
         let (rows, cols) = rayon::join(
-            || SideState::new(b.clone(), table_limit),
-            || SideState::new(b.transpose(), table_limit),
+            || SideState::new(b.clone(), table_limit, b.ncols()),
+            || SideState::new(b.transpose(), table_limit, b.nrows()),
         );
         Ok(NodfEngine {
             rows,
@@ -312,12 +354,10 @@ impl NodfEngine {
             old: vec![0; big],
             new: vec![0; big],
             delta: vec![0; big],
+            buf: Vec::new(),
             gained: Vec::new(),
             lost: Vec::new(),
             kept: Vec::new(),
-            gained_deg: Vec::new(),
-            lost_deg: Vec::new(),
-            kept_deg: Vec::new(),
         }
     }
 
@@ -401,95 +441,91 @@ impl NodfEngine {
             .sum()
     }
 
-    /// Sum of the quotients of the other side after the change.
+    /// Sum of the quotients of the other side after the change. Works in
+    /// positions (degree order): the changes for members outside `D` are
+    /// whole class ranges of the overlap table added at once; those of the
+    /// members of `D` are then written over their entries.
     fn other_side_sum(&self, o: &SideState, old: &[u64], new: &[u64], s: &mut Scratch) -> f64 {
         let bit = |w: &[u64], u: usize| (w[u / 64] >> (u % 64)) & 1 == 1;
-        // Classify the changed and kept members.
+        // Classify the changed and kept members, as (degree, position).
         s.gained.clear();
         s.lost.clear();
         s.kept.clear();
         for (k, (&a, &b)) in old.iter().zip(new).enumerate() {
-            push_ones(&mut s.gained, b & !a, k);
-            push_ones(&mut s.lost, a & !b, k);
-            push_ones(&mut s.kept, a & b, k);
+            push_ones(&mut s.gained, b & !a, k, o);
+            push_ones(&mut s.lost, a & !b, k, o);
+            push_ones(&mut s.kept, a & b, k, o);
         }
-        for (list, degs) in [
-            (&s.gained, &mut s.gained_deg),
-            (&s.lost, &mut s.lost_deg),
-            (&s.kept, &mut s.kept_deg),
-        ] {
-            degs.clear();
-            degs.extend(list.iter().map(|&u| o.deg[u as usize]));
-            degs.sort_unstable();
-        }
-        let ge = |v: &[usize], t: usize| (v.len() - v.partition_point(|&x| x < t)) as i64;
-        let in_d = |u: usize| bit(old, u) != bit(new, u);
+        s.gained.sort_unstable();
+        s.lost.sort_unstable();
+        s.kept.sort_unstable();
+        // Members of a sorted (degree, position) list with degree >= t.
+        let ge = |v: &[(u32, u32)], t: usize| {
+            (v.len() - v.partition_point(|&(d, _)| (d as usize) < t)) as i32
+        };
+        // Members of a sorted list with degree exactly c.
+        let of_degree = |v: &[(u32, u32)], c: usize| {
+            let a = v.partition_point(|&(d, _)| (d as usize) < c);
+            let b = v.partition_point(|&(d, _)| (d as usize) <= c);
+            a..b
+        };
         let delta = &mut s.delta;
-        // Columns outside D: pairs with a gained or lost member.
-        for &u in &s.gained {
-            let u = u as usize;
-            for &l in o.class(o.deg[u]) {
-                let l = l as usize;
-                if !in_d(l) {
-                    delta[l] += o.overlap(u, l);
-                }
+        let buf = &mut s.buf;
+        // Members outside D: pairs with a gained or lost member, by class.
+        for &(c, p) in &s.gained {
+            let range = o.class(c as usize);
+            let start = range.start;
+            let row = o.overlaps(p as usize, range.clone(), buf);
+            for (d, &x) in delta[start..start + row.len()].iter_mut().zip(row) {
+                *d += x as i32;
             }
         }
-        for &u in &s.lost {
-            let u = u as usize;
-            for &l in o.class(o.deg[u] - 1) {
-                let l = l as usize;
-                if !in_d(l) {
-                    delta[l] -= o.overlap(u, l);
-                }
+        for &(c, p) in &s.lost {
+            let range = o.class(c as usize - 1);
+            let start = range.start;
+            let row = o.overlaps(p as usize, range.clone(), buf);
+            for (d, &x) in delta[start..start + row.len()].iter_mut().zip(row) {
+                *d -= x as i32;
             }
         }
-        for &l in &s.kept {
-            let c = o.deg[l as usize];
-            delta[l as usize] += ge(&s.gained_deg, c) - ge(&s.lost_deg, c + 2);
+        for &(c, p) in &s.kept {
+            let c = c as usize;
+            delta[p as usize] += ge(&s.gained, c) - ge(&s.lost, c + 2);
         }
-        // Gained columns.
-        for &l in &s.gained {
-            let l = l as usize;
-            let c = o.deg[l];
-            let mut x = ge(&s.kept_deg, c + 2) + ge(&s.gained_deg, c + 1);
-            for &u in o.class(c + 1) {
-                let u = u as usize;
-                if !(bit(new, u) && !bit(old, u)) {
-                    x -= o.overlap(u, l);
-                }
+        // Gained members (their entries are overwritten).
+        let class_sum = |p: usize, c: usize, buf: &mut Vec<u32>| -> i32 {
+            o.overlaps(p, o.class(c), buf)
+                .iter()
+                .map(|&x| x as i32)
+                .sum()
+        };
+        for &(c, p) in &s.gained {
+            let (c, p) = (c as usize, p as usize);
+            let mut x = ge(&s.kept, c + 2) + ge(&s.gained, c + 1) - class_sum(p, c + 1, buf);
+            for &(_, q) in &s.gained[of_degree(&s.gained, c + 1)] {
+                x += o.overlap_at(p, q as usize);
             }
-            for &u in o.class(c + 2) {
-                let u = u as usize;
-                if bit(old, u) && !bit(new, u) {
-                    x -= o.overlap(u, l);
-                }
+            for &(_, q) in &s.lost[of_degree(&s.lost, c + 2)] {
+                x -= o.overlap_at(p, q as usize);
             }
-            delta[l] += x;
+            delta[p] = x;
         }
-        // Lost columns.
-        for &l in &s.lost {
-            let l = l as usize;
-            let c = o.deg[l];
-            let mut x = -ge(&s.kept_deg, c) - ge(&s.lost_deg, c + 1);
-            for &u in o.class(c) {
-                let u = u as usize;
-                if u != l && !(bit(old, u) && !bit(new, u)) {
-                    x += o.overlap(u, l);
-                }
+        // Lost members.
+        for &(c, p) in &s.lost {
+            let (c, p) = (c as usize, p as usize);
+            let mut x = -ge(&s.kept, c) - ge(&s.lost, c + 1) + class_sum(p, c, buf);
+            for &(_, q) in &s.lost[of_degree(&s.lost, c)] {
+                x -= o.overlap_at(p, q as usize); // includes p itself
             }
-            for &u in o.class(c - 1) {
-                let u = u as usize;
-                if bit(new, u) && !bit(old, u) {
-                    x += o.overlap(u, l);
-                }
+            for &(_, q) in &s.gained[of_degree(&s.gained, c - 1)] {
+                x += o.overlap_at(p, q as usize);
             }
-            delta[l] += x;
+            delta[p] = x;
         }
-        // The sum in member order; every delta is reset to zero on the way.
+        // The sum in member order; every entry is reset to zero on the way.
         (0..o.len())
             .filter_map(|l| {
-                let x = std::mem::take(&mut delta[l]);
+                let x = std::mem::take(&mut delta[o.pos[l] as usize]);
                 let d = o.deg[l] + usize::from(bit(new, l)) - usize::from(bit(old, l));
                 if d == 0 {
                     return None;
@@ -497,18 +533,20 @@ impl NodfEngine {
                 Some(if x == 0 && d == o.deg[l] {
                     o.term[l]
                 } else {
-                    quotient((o.ov[l] as i64 + x) as u64, d)
+                    quotient((o.ov[l] as i64 + i64::from(x)) as u64, d)
                 })
             })
             .sum()
     }
 }
 
-/// Appends `64 k + b` for every set bit `b` of `w`.
+/// Appends `(degree, position)` of the member `64 k + b` of `o` for every
+/// set bit `b` of `w`.
 #[inline]
-fn push_ones(out: &mut Vec<u32>, mut w: u64, k: usize) {
+fn push_ones(out: &mut Vec<(u32, u32)>, mut w: u64, k: usize, o: &SideState) {
     while w != 0 {
-        out.push((k * 64 + w.trailing_zeros() as usize) as u32);
+        let u = k * 64 + w.trailing_zeros() as usize;
+        out.push((o.deg[u] as u32, o.pos[u]));
         w &= w - 1;
     }
 }
