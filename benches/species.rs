@@ -60,7 +60,17 @@ fn bench(c: &mut Criterion) {
     for (side, name) in [(Side::Row, "row"), (Side::Col, "col")] {
         g.bench_function(format!("engine/{name}"), |bn| {
             let mut s = engine.scratch();
-            bn.iter(|| redraw(&engine, side, 7, RedrawModel::Proportional, DRAWS, 1, &mut s))
+            bn.iter(|| {
+                redraw(
+                    &engine,
+                    side,
+                    7,
+                    RedrawModel::Proportional,
+                    DRAWS,
+                    1,
+                    &mut s,
+                )
+            })
         });
         g.bench_function(format!("full/{name}"), |bn| bn.iter(|| full(&b, side, 7)));
     }
