@@ -352,7 +352,8 @@ fn idiosyncratic_temperatures_average_to_t() {
         if b.count_ones() == 0 {
             continue;
         }
-        let ((rows, cols), t) = idiosyncratic_temperatures(&b, 2, 9).unwrap();
+        let it = idiosyncratic_temperatures(&b, 2, 9).unwrap();
+        let (rows, cols, t) = (it.rows, it.cols, it.temperature);
         let tol = 1e-9 * (1.0 + t);
         assert!((rows.iter().sum::<f64>() / m as f64 - t).abs() < tol);
         assert!((cols.iter().sum::<f64>() / n as f64 - t).abs() < tol);

@@ -278,7 +278,7 @@ pub fn species_contributions<T: Weight>(
     let b = net.binary()?;
     let (m, n) = (b.nrows(), b.ncols());
     let engine = NodfEngine::new(&b)?;
-    let (temps, t_packed) = idiosyncratic_temperatures(&b, opts.pack_restarts, opts.seed)?;
+    let temps = idiosyncratic_temperatures(&b, opts.pack_restarts, opts.seed)?;
     let all: Vec<(Side, usize)> = (0..m)
         .map(|i| (Side::Row, i))
         .chain((0..n).map(|j| (Side::Col, j)))
@@ -304,8 +304,8 @@ pub fn species_contributions<T: Weight>(
             let degree = engine.degrees(side)[i];
             let contribution = r.and_then(|r| r.z);
             let (label, temp, med) = match side {
-                Side::Row => (&net.row_labels()[i], temps.0[i], medians[0]),
-                Side::Col => (&net.col_labels()[i], temps.1[i], medians[1]),
+                Side::Row => (&net.row_labels()[i], temps.rows[i], medians[0]),
+                Side::Col => (&net.col_labels()[i], temps.cols[i], medians[1]),
             };
             SpeciesRecord {
                 side,
@@ -329,7 +329,7 @@ pub fn species_contributions<T: Weight>(
     });
     Ok(SpeciesAnalysis {
         nodf: engine.observed(),
-        temperature: t_packed,
+        temperature: temps.temperature,
         options: *opts,
         species,
     })
@@ -542,16 +542,17 @@ pub fn leave_one_out(b: &BitMatrix, side: Side, index: usize, observed: f64) -> 
 /// use nidus::analyses::species::idiosyncratic_temperatures;
 /// use nidus::BitMatrix;
 /// let b = BitMatrix::from_fn(4, 4, |i, j| i + j < 4 || (i, j) == (3, 3));
-/// let ((rows, cols), t) = idiosyncratic_temperatures(&b, 0, 1).unwrap();
-/// let mean = rows.iter().sum::<f64>() / 4.0;
+/// let it = idiosyncratic_temperatures(&b, 0, 1).unwrap();
+/// let t = it.temperature;
+/// let mean = it.rows.iter().sum::<f64>() / 4.0;
 /// assert!((mean - t).abs() < 1e-9 * (1.0 + t));
-/// assert!((cols.iter().sum::<f64>() / 4.0 - t).abs() < 1e-9 * (1.0 + t));
+/// assert!((it.cols.iter().sum::<f64>() / 4.0 - t).abs() < 1e-9 * (1.0 + t));
 /// ```
 pub fn idiosyncratic_temperatures(
     b: &BitMatrix,
     restarts: usize,
     seed: u64,
-) -> Result<((Vec<f64>, Vec<f64>), f64)> {
+) -> Result<IdiosyncraticTemperatures> {
     let (m, n) = (b.nrows(), b.ncols());
     let table = UnexpectednessTable::new(m, n, b.count_ones())?;
     let opts = TemperatureOptions {
@@ -578,5 +579,20 @@ pub fn idiosyncratic_temperatures(
     for x in &mut cols {
         *x = 100.0 * *x / (m as f64 * U_MAX);
     }
-    Ok(((rows, cols), t.packed.unwrap_or(t.sorted)))
+    Ok(IdiosyncraticTemperatures {
+        rows,
+        cols,
+        temperature: t.packed.unwrap_or(t.sorted),
+    })
+}
+
+/// Per-species temperatures of [`idiosyncratic_temperatures`].
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct IdiosyncraticTemperatures {
+    /// One value per row, in input order.
+    pub rows: Vec<f64>,
+    /// One value per column, in input order.
+    pub cols: Vec<f64>,
+    /// The packed `T` of the whole matrix (the mean of `rows`, and of `cols`).
+    pub temperature: f64,
 }
