@@ -241,13 +241,13 @@ fn overlap_table(b: &BitMatrix) -> Vec<u32> {
 /// use nidus::analyses::species::{NodfEngine, Side};
 /// use nidus::metrics::{nodf_bits, Order};
 /// use nidus::BitMatrix;
-/// let b = BitMatrix::from_fn(4, 5, |i, j| j + i < 5); // a staircase
+/// let b = BitMatrix::from_fn(4, 4, |i, j| i + j < 4); // a staircase
 /// let engine = NodfEngine::new(&b).unwrap();
 /// assert_eq!(engine.observed(), 100.0);
-/// // Replace row 3's cells by columns {1, 4}.
+/// // Replace row 3's cells (column 0) by columns {1, 3}.
 /// let mut scratch = engine.scratch();
 /// engine.focus(Side::Row, 3, &mut scratch);
-/// let new_cells = [0b10010u64];
+/// let new_cells = [0b1010u64];
 /// let mut changed = b.clone();
 /// changed.row_mut(3).copy_from_slice(&new_cells);
 /// let full = nodf_bits(&changed, Order::Sorted).unwrap().total;
