@@ -23,12 +23,13 @@ use rayon::prelude::*;
 
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
+use crate::metrics::sparse::wnodf_csr;
 use crate::metrics::temperature::{temperature_with_table, UnexpectednessTable, U_MAX};
 use crate::metrics::{nodf_bits, Order, TemperatureOptions};
-use crate::network::{Network, Weight};
-use crate::null::{draw_key, floyd};
+use crate::network::{Csr, Network, Weight};
+use crate::null::{draw_key, floyd, shuffle};
 
-mod engine;
+pub mod engine;
 
 pub use engine::{NodfEngine, Scratch, Side, OVERLAP_TABLE_LIMIT};
 
@@ -85,16 +86,20 @@ pub struct SpeciesOptions {
     /// Random starts of the temperature packing besides the degree-sorted
     /// one (see [`TemperatureOptions`]); the packing's own seed is `seed`.
     pub pack_restarts: usize,
+    /// Also compute WNODF contributions ([`wnodf_redraw`]; full WNODF per
+    /// draw, so much slower than the NODF ones). Default `false`.
+    pub wnodf: bool,
 }
 
 impl Default for SpeciesOptions {
-    /// `proportional`, 999 draws, seed 1, 4 packing restarts.
+    /// `proportional`, 999 draws, seed 1, 4 packing restarts, no WNODF.
     fn default() -> Self {
         SpeciesOptions {
             model: RedrawModel::Proportional,
             draws: 999,
             seed: 1,
             pack_restarts: 4,
+            wnodf: false,
         }
     }
 }
@@ -189,6 +194,9 @@ pub struct SpeciesRecord {
     pub idiosyncratic_temperature: f64,
     /// The plain-words reading ([`Role::of`]).
     pub role: Role,
+    /// WNODF contribution ([`wnodf_redraw`]) when asked for
+    /// ([`SpeciesOptions::wnodf`]) and defined, else `None`.
+    pub wnodf_contribution: Option<f64>,
 }
 
 /// The species table of one network.
@@ -283,13 +291,24 @@ pub fn species_contributions<T: Weight>(
         .map(|i| (Side::Row, i))
         .chain((0..n).map(|j| (Side::Col, j)))
         .collect();
-    let results: Vec<(Option<Redraws>, Option<f64>)> = all
+    let weighted = if opts.wnodf {
+        let csr = net.to_f64().csr().into_owned();
+        let t = csr.transpose();
+        Some((csr, t))
+    } else {
+        None
+    };
+    let results: Vec<(Option<Redraws>, Option<f64>, Option<f64>)> = all
         .par_iter()
         .map_init(
             || engine.scratch(),
             |scratch, &(side, i)| {
                 let r = redraw(&engine, side, i, opts.model, opts.draws, opts.seed, scratch);
-                (r, leave_one_out(&b, side, i, engine.observed()))
+                let w = weighted.as_ref().and_then(|(rows, cols)| {
+                    let own = if side == Side::Row { rows } else { cols };
+                    wnodf_redraw(own, side, i, opts.draws, opts.seed).and_then(|r| r.z)
+                });
+                (r, leave_one_out(&b, side, i, engine.observed()), w)
             },
         )
         .collect();
@@ -300,7 +319,7 @@ pub fn species_contributions<T: Weight>(
     let mut species: Vec<SpeciesRecord> = all
         .iter()
         .zip(results)
-        .map(|(&(side, i), (r, loo))| {
+        .map(|(&(side, i), (r, loo, wz))| {
             let degree = engine.degrees(side)[i];
             let contribution = r.and_then(|r| r.z);
             let (label, temp, med) = match side {
@@ -318,6 +337,7 @@ pub fn species_contributions<T: Weight>(
                 leave_one_out: loo,
                 idiosyncratic_temperature: temp,
                 role: Role::of(degree, contribution, med),
+                wnodf_contribution: wz,
             }
         })
         .collect();
@@ -423,9 +443,7 @@ pub fn redraw(
         RedrawModel::KeepDegree => Vec::new(),
     };
     let mut cells = vec![0u64; engine.words(side)];
-    let (mut mean, mut m2) = (0.0f64, 0.0f64);
-    let mut first: Option<f64> = None;
-    let mut constant = true;
+    let mut acc = Welford::default();
     for r in 0..draws {
         let mut rng = species_rng(seed, side, index, r as u64);
         cells.fill(0);
@@ -447,22 +465,114 @@ pub fn redraw(
                 cells[pick / 64] |= 1 << (pick % 64);
             }),
         }
-        let v = engine.nodf_with(&cells, scratch);
-        match first {
-            None => first = Some(v),
-            Some(f) => constant &= f.to_bits() == v.to_bits(),
-        }
-        let delta = v - mean;
-        mean += delta / (r + 1) as f64;
-        m2 += delta * (v - mean);
+        acc.push(engine.nodf_with(&cells, scratch));
     }
-    let (mean, sd) = if constant {
-        (first.unwrap_or(f64::NAN), 0.0)
-    } else {
-        (mean, (m2 / (draws as f64 - 1.0)).sqrt())
-    };
-    let z = (sd > 0.0).then(|| (engine.observed() - mean) / sd);
-    Some(Redraws { mean, sd, z })
+    Some(acc.finish(engine.observed(), draws))
+}
+
+/// WNODF contribution of species `index` of `side`: `(W - mean(W*_i)) /
+/// sd(W*_i)` with `W` the observed WNODF (sorted order; Almeida-Neto &
+/// Ulrich 2011) and `W*_i` the WNODF of `draws` networks in which only the
+/// species' cells are re-drawn: its `k` cell values (visit counts and
+/// zeros) are permuted uniformly across the other side's `k` members, so it
+/// keeps its degree and its visit counts and moves them to random partners.
+/// `own` holds the species' side as compressed rows (the network for a row
+/// species, its transpose for a column species; WNODF is the same either
+/// way). `None` for a species with no links.
+///
+/// Draw `r` uses [`species_rng`]`(seed, side, index, r)` and a Fisher-Yates
+/// shuffle with Lemire's bounded integers ([`crate::null::below`]).
+///
+/// Cost: per draw, a compressed copy (`O(L log L)`) and a full WNODF
+/// (`O(L log m)`); no incremental update.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::analyses::species::{wnodf_redraw, Side};
+/// use nidus::Csr;
+/// let w = array![[5.0, 4.0, 3.0], [2.0, 1.0, 0.0], [1.0, 0.0, 0.0]];
+/// let csr = Csr::from_dense(w.view()); // WNODF 100
+/// let r = wnodf_redraw(&csr, Side::Row, 1, 99, 1).unwrap();
+/// assert!(r.mean < 100.0 && r.z.unwrap() > 0.0);
+/// ```
+pub fn wnodf_redraw(
+    own: &Csr<f64>,
+    side: Side,
+    index: usize,
+    draws: usize,
+    seed: u64,
+) -> Option<Redraws> {
+    let (k, width) = (own.nrows(), own.ncols());
+    let (cols, vals) = own.row(index);
+    if cols.is_empty() {
+        return None;
+    }
+    let observed = wnodf_csr(own, Order::Sorted).ok()?.total;
+    let mut base: Vec<(u32, u32, f64)> = Vec::with_capacity(own.nnz());
+    for r in (0..k).filter(|&r| r != index) {
+        let (c, v) = own.row(r);
+        base.extend(c.iter().zip(v).map(|(&j, &x)| (r as u32, j, x)));
+    }
+    let mut cells = vec![0.0f64; width];
+    let mut acc = Welford::default();
+    for r in 0..draws {
+        cells.fill(0.0);
+        for (&j, &x) in cols.iter().zip(vals) {
+            cells[j as usize] = x;
+        }
+        shuffle(&mut cells, &mut species_rng(seed, side, index, r as u64));
+        let mut t = base.clone();
+        t.extend(
+            cells
+                .iter()
+                .enumerate()
+                .filter(|(_, &x)| x > 0.0)
+                .map(|(j, &x)| (index as u32, j as u32, x)),
+        );
+        let v = wnodf_csr(&Csr::from_triplets(k, width, t), Order::Sorted)
+            .ok()?
+            .total;
+        acc.push(v);
+    }
+    Some(acc.finish(observed, draws))
+}
+
+/// Welford's running mean and sum of squares, in draw order, with the
+/// all-equal case kept exact (sd 0).
+#[derive(Default)]
+struct Welford {
+    n: usize,
+    mean: f64,
+    m2: f64,
+    first: Option<f64>,
+    constant: bool,
+}
+
+impl Welford {
+    fn push(&mut self, v: f64) {
+        match self.first {
+            None => {
+                self.first = Some(v);
+                self.constant = true;
+            }
+            Some(f) => self.constant &= f.to_bits() == v.to_bits(),
+        }
+        self.n += 1;
+        let delta = v - self.mean;
+        self.mean += delta / self.n as f64;
+        self.m2 += delta * (v - self.mean);
+    }
+
+    fn finish(&self, observed: f64, draws: usize) -> Redraws {
+        let (mean, sd) = if self.constant {
+            (self.first.unwrap_or(f64::NAN), 0.0)
+        } else {
+            (self.mean, (self.m2 / (draws as f64 - 1.0)).sqrt())
+        };
+        let z = (sd > 0.0).then(|| (observed - mean) / sd);
+        Redraws { mean, sd, z }
+    }
 }
 
 /// NODF (sorted order) of `b` without species `index` of `side`, with the

@@ -38,6 +38,10 @@ pub struct SpeciesArgs {
     /// (default: 4 up to 40,000 cells, else 0).
     #[arg(long, value_name = "N")]
     restarts: Option<usize>,
+    /// Also WNODF contributions for weighted data: each re-draw permutes the species' visit
+    /// counts across all partners (a full WNODF per draw: slower).
+    #[arg(long)]
+    wnodf: bool,
     #[command(flatten)]
     input: LayoutArgs,
     /// Output format: text (the top and bottom species), json (one object per species per
@@ -57,6 +61,7 @@ const CSV_COLUMNS: &[&str] = &[
     "leave_one_out",
     "idiosyncratic_temperature",
     "role",
+    "wnodf_contribution",
 ];
 
 pub fn run(args: SpeciesArgs) -> nidus::Result<ExitCode> {
@@ -69,6 +74,7 @@ pub fn run(args: SpeciesArgs) -> nidus::Result<ExitCode> {
         pack_restarts: args
             .restarts
             .unwrap_or(if cells <= AUTO_RESTARTS_CELLS { 4 } else { 0 }),
+        wnodf: args.wnodf,
     };
     let a = species_contributions(&net, &opts)?;
     let file = args.file.display().to_string();
@@ -117,6 +123,7 @@ fn csv_line(file: &str, s: &SpeciesRecord) -> String {
         opt(s.leave_one_out),
         s.idiosyncratic_temperature.to_string(),
         s.role.name().to_string(),
+        opt(s.wnodf_contribution),
     ];
     fields.join(",") + "\n"
 }
@@ -128,7 +135,7 @@ fn fmt_opt(x: Option<f64>, width: usize, digits: usize) -> String {
     }
 }
 
-fn rows(list: &[&SpeciesRecord]) -> String {
+fn rows(list: &[&SpeciesRecord], wnodf: bool) -> String {
     let label_w = list
         .iter()
         .map(|s| s.label.chars().count())
@@ -136,12 +143,23 @@ fn rows(list: &[&SpeciesRecord]) -> String {
         .unwrap_or(5)
         .max(5);
     let mut t = format!(
-        "  {:<4} {:<label_w$} {:>6} {:>12} {:>13} {:>15}  role\n",
-        "side", "label", "degree", "contribution", "leave-one-out", "idiosyncratic T"
+        "  {:<4} {:<label_w$} {:>6} {:>12} {:>13} {:>15}{}  role\n",
+        "side",
+        "label",
+        "degree",
+        "contribution",
+        "leave-one-out",
+        "idiosyncratic T",
+        if wnodf { "       wnodf" } else { "" }
     );
     for s in list {
+        let w = if wnodf {
+            format!(" {}", fmt_opt(s.wnodf_contribution, 11, 2))
+        } else {
+            String::new()
+        };
         t += &format!(
-            "  {:<4} {:<label_w$} {:>6} {} {} {:>15.1}  {}\n",
+            "  {:<4} {:<label_w$} {:>6} {} {} {:>15.1}{w}  {}\n",
             s.side.name(),
             s.label,
             s.degree,
@@ -165,15 +183,20 @@ fn text_report(file: &str, a: &SpeciesAnalysis, m: usize, n: usize, weighted: bo
         o.draws, o.model, o.seed, o.pack_restarts
     );
     if weighted {
-        t += "note: the visit counts are not used; contributions, leave-one-out and temperature read who interacts with whom\n";
+        t += "note: contributions, leave-one-out and temperature read who interacts with whom, not the visit counts";
+        t += if o.wnodf {
+            " (the wnodf column uses them)\n"
+        } else {
+            "; --wnodf adds contributions to WNODF\n"
+        };
     }
     let all: Vec<&SpeciesRecord> = a.species.iter().collect();
     if all.len() <= 2 * SHOWN {
         t += "\nall species, by contribution:\n";
-        t += &rows(&all);
+        t += &rows(&all, o.wnodf);
     } else {
         t += &format!("\nthe {SHOWN} species that add most to nestedness:\n");
-        t += &rows(&all[..SHOWN]);
+        t += &rows(&all[..SHOWN], o.wnodf);
         let defined: Vec<&SpeciesRecord> = all
             .iter()
             .copied()
@@ -184,7 +207,7 @@ fn text_report(file: &str, a: &SpeciesAnalysis, m: usize, n: usize, weighted: bo
             "\nthe {} species that add least (or work against it):\n",
             tail.len()
         );
-        t += &rows(tail);
+        t += &rows(tail, o.wnodf);
         let undefined = all.len() - defined.len();
         if undefined > 0 {
             t += &format!("({undefined} species with an undefined contribution are listed last in json/csv)\n");
