@@ -235,7 +235,8 @@ impl SpeciesAnalysis {
 /// * Leave-one-out: [`leave_one_out`].
 /// * Idiosyncratic temperature: [`idiosyncratic_temperatures`].
 ///
-/// Weights are ignored (the binary view is used). Species are processed in
+/// Weights are ignored (the binary view is used), except by the optional
+/// WNODF contributions ([`SpeciesOptions::wnodf`]). Species are processed in
 /// parallel; each one's draws depend on `(seed, species key, r)` alone and
 /// are summed in draw order, so the result is identical for any number of
 /// threads.
@@ -581,6 +582,8 @@ impl Welford {
 /// is undefined without the species (no pair left on either side).
 ///
 /// Cost: one copy of the reduced matrix (`O(m n / 64 + L)`) and one NODF.
+///
+/// Panics when `index` is out of range for `side`.
 ///
 /// # Example
 /// ```
