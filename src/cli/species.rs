@@ -4,13 +4,11 @@ use std::io;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
+use super::{csv_field, emit, input_name, read_input, Format, LayoutArgs};
 use clap::Args;
 use nidus::analyses::species::{
     species_contributions, RedrawModel, SpeciesAnalysis, SpeciesOptions, SpeciesRecord, ROLE_Z,
 };
-use nidus::io::read_network;
-
-use super::{csv_field, emit, Format, LayoutArgs};
 
 /// Networks up to this many cells get 4 random packing starts by default,
 /// larger ones none (packing is the slow part there; see the README).
@@ -21,7 +19,7 @@ const SHOWN: usize = 5;
 
 #[derive(Args, Debug)]
 pub struct SpeciesArgs {
-    /// Network file (see README for the two layouts).
+    /// Network file (see README for the two layouts); `-` reads standard input.
     #[arg(value_name = "FILE")]
     file: PathBuf,
     /// How a species' links are re-drawn: proportional (Bascompte et al. 2003 probabilities)
@@ -65,7 +63,9 @@ const CSV_COLUMNS: &[&str] = &[
 ];
 
 pub fn run(args: SpeciesArgs) -> nidus::Result<ExitCode> {
-    let net = read_network(&args.file, &args.input.read_options())?;
+    // The reader's notes (species without links dropped, header found...)
+    // go to stderr as for every subcommand.
+    let net = read_input(&args.file, &args.input.read_options())?.network;
     let cells = net.nrows() * net.ncols();
     let opts = SpeciesOptions {
         model: args.model,
@@ -77,7 +77,7 @@ pub fn run(args: SpeciesArgs) -> nidus::Result<ExitCode> {
         wnodf: args.wnodf,
     };
     let a = species_contributions(&net, &opts)?;
-    let file = args.file.display().to_string();
+    let file = input_name(&args.file);
     let text = match args.format {
         Format::Text => text_report(&file, &a, net.nrows(), net.ncols(), net.is_weighted()),
         Format::Json => a
