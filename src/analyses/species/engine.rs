@@ -20,15 +20,20 @@
 //!   columns in `D` change degree (by +1 or -1), and the overlap of two
 //!   columns changes only when one of them is in `D`. Writing
 //!   `c` for the old column degrees and `O_ul` for old column overlaps,
-//!   `ov'_l - ov_l` is, for a column `l` outside `D` (`b = a_l`):
-//!   `sum_{u in G, c_u = c_l} O_ul - sum_{u in Lo, c_u = c_l + 1} O_ul
-//!    + b (#{u in G: c_u >= c_l} - #{u in Lo: c_u >= c_l + 2})`;
-//!   for `l` in `G`:
-//!   `- sum_{u not in G, c_u = c_l + 1} O_ul - sum_{u in Lo, c_u = c_l + 2} O_ul
-//!    + #{u in K: c_u >= c_l + 2} + #{u in G: c_u > c_l}`;
-//!   for `l` in `Lo`:
-//!   `sum_{u != l, u not in Lo, c_u = c_l} O_ul + sum_{u in G, c_u = c_l - 1} O_ul
-//!    - #{u in K: c_u >= c_l} - #{u in Lo: c_u > c_l}`.
+//!   `ov'_l - ov_l` is:
+//!
+//!   ```text
+//!   l outside D (b = a_l):
+//!       sum_{u in G, c_u = c_l} O_ul - sum_{u in Lo, c_u = c_l + 1} O_ul
+//!       + b (#{u in G: c_u >= c_l} - #{u in Lo: c_u >= c_l + 2})
+//!   l in G:
+//!       sum_{u in G, c_u > c_l} 1 + #{u in K: c_u >= c_l + 2}
+//!       - sum_{u not in G, c_u = c_l + 1} O_ul - sum_{u in Lo, c_u = c_l + 2} O_ul
+//!   l in Lo:
+//!       sum_{u != l, u not in Lo, c_u = c_l} O_ul + sum_{u in G, c_u = c_l - 1} O_ul
+//!       - #{u in K: c_u >= c_l} - #{u in Lo: c_u > c_l}
+//!   ```
+//!
 //!   (Each case follows from `[c'_u > c'_l] O'_ul - [c_u > c_l] O_ul` with
 //!   `c' = c ± 1` and `O'_ul = O_ul + a'_u a'_l - a_u a_l`.) The sums run over
 //!   one or two degree classes per member of `D`, the counts are binary
