@@ -15,6 +15,7 @@ mod merge;
 mod null;
 mod report;
 mod sample;
+mod species;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
@@ -44,6 +45,8 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
+    Species(species::SpeciesArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -79,6 +82,7 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Species(args) => species::run(args),
     };
     match result {
         Ok(code) => code,
