@@ -14,8 +14,9 @@ use crate::metrics::{self, Order, TemperatureOptions};
 use crate::network::{Network, Weight};
 
 /// A scalar index that can be tested against a null model.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize)]
-#[serde(into = "&'static str")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(into = "&'static str"))]
 pub enum IndexKind {
     /// NODF, both sides.
     Nodf,
@@ -38,8 +39,9 @@ pub enum IndexKind {
 }
 
 /// Which direction of an index means "more nested".
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Direction {
     /// Larger values are more nested (NODF, WNODF, spectral radius).
     Greater,

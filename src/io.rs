@@ -47,8 +47,9 @@ use crate::error::{Error, Result};
 use crate::network::{Network, Weight};
 
 /// File layout.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Layout {
     /// A header row of column labels, then one labelled row of values per
     /// row species.
@@ -88,19 +89,20 @@ impl FromStr for Layout {
 }
 
 /// How the first non-blank line of an edge list is treated.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum EdgeHeader {
     /// Skipped when it has a weight field that is not a number (for example
     /// `plant,visitor,visits`); otherwise read as data. A two-field header
     /// cannot be told from data: use [`EdgeHeader::Present`] for it.
     #[default]
-    #[serde(rename = "auto")]
+    #[cfg_attr(feature = "serde", serde(rename = "auto"))]
     Auto,
     /// Always skipped.
-    #[serde(rename = "yes")]
+    #[cfg_attr(feature = "serde", serde(rename = "yes"))]
     Present,
     /// Never skipped: the first line is data.
-    #[serde(rename = "no")]
+    #[cfg_attr(feature = "serde", serde(rename = "no"))]
     Absent,
 }
 

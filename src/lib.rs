@@ -30,6 +30,15 @@ pub mod null;
 pub mod significance;
 pub mod special;
 
+/// The `ndarray` this crate is built with: use `nidus::ndarray` to build
+/// arrays whose type matches the library's signatures.
+pub use ndarray;
+/// The `rand` this crate is built with (samplers take `R: rand::Rng`).
+pub use rand;
+/// The `rand_xoshiro` this crate is built with: the generator type of
+/// [`null::draw_rng`].
+pub use rand_xoshiro;
+
 pub use bits::BitMatrix;
 pub use error::{Error, Result};
 pub use metrics::Order;

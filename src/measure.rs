@@ -100,7 +100,8 @@ impl MeasureOptions {
 /// The description of a network and the indices asked for. An index not
 /// asked for is `None`; so is WNODF of a binary network (it would be 0 by
 /// definition, which says nothing).
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Measurement {
     /// Number of rows.
     pub rows: usize,

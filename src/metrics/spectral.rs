@@ -49,7 +49,6 @@
 use std::borrow::Cow;
 
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
@@ -69,7 +68,8 @@ const LONG_PHASE_WORK: f64 = 3e10;
 const CHUNK: usize = 1 << 14;
 
 /// The spectral radius of a network's weighted and binary views.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpectralRadius {
     /// Largest singular value of the weight matrix `W`.
     pub weighted: f64,

@@ -100,7 +100,8 @@ const MAX_ROUNDS: usize = 1000;
 /// with one start (`restarts = 0`), about 1.2 s; 1000 x 1000 at fill 0.1
 /// with one start, about 30 s. For matrices beyond a few hundred rows use
 /// `restarts = 0`, or `pack = false`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct TemperatureOptions {
     /// Search for the packed order.
     pub pack: bool,
@@ -122,7 +123,8 @@ impl Default for TemperatureOptions {
 }
 
 /// Temperature of one matrix in three orders.
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Temperature {
     /// `T` with rows and columns in input order.
     pub given: f64,

@@ -46,7 +46,8 @@ const MAGIC: &str = "# nidus null draws";
 const VERSION: &str = "1";
 
 /// A run read from a saved-draws file, with the label of its network file.
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SavedRun {
     /// The network file the run tested, as given on the command line.
     pub file: String,

@@ -57,7 +57,6 @@ use std::str::FromStr;
 use ndarray::Array2;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
-use serde::Serialize;
 
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
@@ -78,33 +77,34 @@ pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
 /// The null models, named as on the command line.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum NullModel {
     /// `equiprobable`: the `L` ones placed uniformly among the `m n` cells.
-    #[serde(rename = "equiprobable")]
+    #[cfg_attr(feature = "serde", serde(rename = "equiprobable"))]
     Equiprobable,
     /// `proportional`: cell `(i, j)` is 1 with probability `(d_i/n + d_j/m)/2`.
-    #[serde(rename = "proportional")]
+    #[cfg_attr(feature = "serde", serde(rename = "proportional"))]
     Proportional,
     /// `fixed-rows`: each row's ones placed uniformly within the row.
-    #[serde(rename = "fixed-rows")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-rows"))]
     FixedRows,
     /// `fixed-columns`: each column's ones placed uniformly within the column.
-    #[serde(rename = "fixed-columns")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-columns"))]
     FixedColumns,
     /// `fixed-both`: uniform over binary matrices with the observed row and
     /// column degrees (curveball chain).
-    #[serde(rename = "fixed-both")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-both"))]
     FixedBoth,
     /// `shuffle-cells`: all `m n` values permuted.
-    #[serde(rename = "shuffle-cells")]
+    #[cfg_attr(feature = "serde", serde(rename = "shuffle-cells"))]
     ShuffleCells,
     /// `shuffle-weights`: non-zero values permuted among the occupied cells.
-    #[serde(rename = "shuffle-weights")]
+    #[cfg_attr(feature = "serde", serde(rename = "shuffle-weights"))]
     ShuffleWeights,
     /// `fixed-totals`: integer tables with the observed row and column sums
     /// (Patefield's algorithm).
-    #[serde(rename = "fixed-totals")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-totals"))]
     FixedTotals,
 }
 
@@ -159,7 +159,8 @@ impl FromStr for NullModel {
 }
 
 /// Options that some models read.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
     /// `5 * max(m, n)`. Values below that default are allowed (for

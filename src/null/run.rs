@@ -5,7 +5,6 @@ use std::fmt;
 use std::str::FromStr;
 
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::error::{Error, Result};
 use crate::index::{evaluate, evaluate_bits, IndexKind, IndexOptions};
@@ -68,7 +67,8 @@ impl FromStr for Shard {
     }
 }
 
-impl Serialize for Shard {
+#[cfg(feature = "serde")]
+impl serde::Serialize for Shard {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         s.collect_str(self)
     }
@@ -154,13 +154,10 @@ impl NullConfig {
     }
 }
 
-fn ser_order<S: serde::Serializer>(o: &Order, s: S) -> std::result::Result<S::Ok, S::Error> {
-    s.serialize_str(o.name())
-}
-
 /// The draws of a run (or of one shard of it) and everything needed to
 /// summarise or merge them.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct NullRun {
     /// The model.
     pub model: NullModel,
@@ -179,7 +176,6 @@ pub struct NullRun {
     /// Curveball trades per draw (`fixed-both` only).
     pub burn_in: Option<usize>,
     /// Order used by order-dependent indices.
-    #[serde(serialize_with = "ser_order")]
     pub order: Order,
     /// Rows, columns and links of the observed network.
     pub shape: (usize, usize, usize),
