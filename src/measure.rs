@@ -151,12 +151,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         None
     };
     let temperature = if opts.wants(Family::Temperature) {
-        Some(metrics::temperature(net, &opts.temperature).map_err(|e| match e {
-            Error::TooLarge { .. } => Error::InvalidArgument(format!(
-                "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
-            )),
-            e => e,
-        })?)
+        Some(metrics::temperature(net, &opts.temperature)?)
     } else {
         None
     };

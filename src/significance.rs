@@ -19,7 +19,6 @@
 //! limit is not reached all `R` draws are used and the p-values are the
 //! usual ones.
 
-
 use crate::error::{Error, Result};
 use crate::index::Direction;
 

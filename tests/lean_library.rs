@@ -51,10 +51,20 @@ fn library_without_cli_stays_lean() {
         .collect();
     crates.sort_unstable();
     crates.dedup();
-    assert!(crates.contains(&"nidus") && crates.contains(&"ndarray"), "{crates:?}");
+    assert!(
+        crates.contains(&"nidus") && crates.contains(&"ndarray"),
+        "{crates:?}"
+    );
     for c in CLI_ONLY {
-        assert!(!crates.contains(c), "{c} is compiled for a library user: {crates:?}");
+        assert!(
+            !crates.contains(c),
+            "{c} is compiled for a library user: {crates:?}"
+        );
     }
     // Counted with nidus itself; 22 when this test was written.
-    assert!(crates.len() <= MAX_CRATES, "{} crates: {crates:?}", crates.len());
+    assert!(
+        crates.len() <= MAX_CRATES,
+        "{} crates: {crates:?}",
+        crates.len()
+    );
 }

@@ -8,7 +8,7 @@ use clap::Args;
 use nidus::io::read_network;
 use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
-use nidus::Order;
+use nidus::{Error, Order};
 
 use super::report::Table;
 use super::{emit, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
@@ -37,6 +37,18 @@ pub struct MeasureArgs {
     format: Format,
 }
 
+/// The command line's advice on a library error: a network too large for
+/// a dense table (which only temperature needs) names the option that
+/// leaves temperature out.
+fn advise(e: Error, temperature: bool) -> Error {
+    match e {
+        Error::TooLarge { .. } if temperature => Error::InvalidArgument(format!(
+            "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
+        )),
+        e => e,
+    }
+}
+
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
     let opts = MeasureOptions {
@@ -48,7 +60,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             ..TemperatureOptions::default()
         },
     };
-    let table = Table::new(args.format, &opts);
+    let table = Table::new(args.format, &opts)?;
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
@@ -74,7 +86,10 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             }
             Err(e) => {
                 failed += 1;
-                report_failure(&file.display().to_string(), &e);
+                report_failure(
+                    &file.display().to_string(),
+                    &advise(e, opts.wants(Family::Temperature)),
+                );
             }
         }
     }

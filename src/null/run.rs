@@ -116,7 +116,11 @@ impl NullConfig {
         }
     }
 
-    fn check(&self) -> Result<()> {
+    /// Checks the settings without running anything (the runner checks them
+    /// too): at least one index and two draws, a sequential stop `H >= 2`
+    /// and not with a shard, at least one thread, and no index that reads
+    /// weights under a model that draws binary matrices.
+    pub fn check(&self) -> Result<()> {
         if self.indices.is_empty() {
             return Err(Error::InvalidArgument("no index to test".into()));
         }
