@@ -29,9 +29,6 @@
 //! the same holds for columns given the rows. See [`TemperatureOptions`] for
 //! the search built on that fact, exact on small matrices.
 
-use rand::seq::SliceRandom;
-use rand::SeedableRng;
-use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
 use crate::assign::Workspace;
@@ -39,6 +36,7 @@ use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
 use crate::metrics::degree_order;
 use crate::network::{Network, Weight};
+use crate::null::{purpose, shuffle, stream_rng};
 use crate::special::ln_gamma;
 
 /// The normalising constant of temperature: `T = 100 U / U_max` with `U` the
@@ -74,8 +72,10 @@ const MAX_ROUNDS: usize = 1000;
 ///   degree-sorted one (default 4). Cost grows linearly with it; 0 is the
 ///   cheapest packing. Ignored when the exact search applies.
 /// * `seed`: start `k` (1-based) is a uniformly random pair of row and
-///   column orders drawn from a Xoshiro256PlusPlus generator seeded from
-///   `(seed, k)` alone, so results do not depend on the number of threads.
+///   column orders, shuffled by the crate's own Fisher-Yates shuffle on the
+///   crate's stream [`stream_rng`]`(seed, purpose::TEMPERATURE_PACKING, k)`,
+///   so results depend on `(seed, k)` alone: not on the number of threads,
+///   nor on the version of rand.
 ///
 /// The search. Exact, when the smaller side is small (see
 /// [`EXACT_WORK_LIMIT`]): every order of the smaller side is tried, each
@@ -817,23 +817,18 @@ pub fn packing_is_exact(m: usize, n: usize, links: usize) -> bool {
     perms * (big * big * big + big * links as f64 + (m * n) as f64) <= EXACT_WORK_LIMIT
 }
 
-/// The generator of random start `k`: Xoshiro256PlusPlus seeded from
-/// `(seed, k)` alone. Each of the four state words mixes both through the
-/// SplitMix64 finaliser, so every output depends on both numbers.
-fn start_rng(seed: u64, k: u64) -> Xoshiro256PlusPlus {
-    fn mix(mut z: u64) -> u64 {
-        z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    let (a, b) = (mix(seed), mix(k ^ 0x7465_6d70_6572_6174));
-    let mut bytes = [0u8; 32];
-    for (t, chunk) in bytes.chunks_exact_mut(8).enumerate() {
-        let w = mix(a ^ mix(b.wrapping_add(t as u64)));
-        chunk.copy_from_slice(&w.to_le_bytes());
-    }
-    Xoshiro256PlusPlus::from_seed(bytes)
+/// The row and column orders of random start `k` (1-based): the identity
+/// orders shuffled, rows first, by the crate's Fisher-Yates shuffle on
+/// [`stream_rng`]`(seed, purpose::TEMPERATURE_PACKING, k)`. Depends on
+/// `(seed, k)` and the sizes alone: the same for any thread count and any
+/// rand version.
+pub(crate) fn start_orders(seed: u64, k: u64, m: usize, n: usize) -> (Vec<usize>, Vec<usize>) {
+    let mut rng = stream_rng(seed, purpose::TEMPERATURE_PACKING, k);
+    let mut rows: Vec<usize> = (0..m).collect();
+    let mut cols: Vec<usize> = (0..n).collect();
+    shuffle(&mut rows, &mut rng);
+    shuffle(&mut cols, &mut rng);
+    (rows, cols)
 }
 
 /// The packed order: the best of the sorted candidate and the search (exact
@@ -865,11 +860,7 @@ fn pack(
             if k == 0 {
                 packer.descend(sorted.1.clone(), sorted.2.clone())
             } else {
-                let mut rng = start_rng(opts.seed, k);
-                let mut rows: Vec<usize> = (0..m).collect();
-                let mut cols: Vec<usize> = (0..n).collect();
-                rows.shuffle(&mut rng);
-                cols.shuffle(&mut rng);
+                let (rows, cols) = start_orders(opts.seed, k, m, n);
                 packer.descend(rows, cols)
             }
         })
