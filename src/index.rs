@@ -119,13 +119,22 @@ impl FromStr for IndexKind {
     }
 }
 
-/// Settings that indices take.
+/// Settings that indices take. Build it with [`IndexOptions::new`] or
+/// `Default` (new settings may be added).
 #[derive(Clone, Debug, Default)]
+#[non_exhaustive]
 pub struct IndexOptions {
     /// Row and column order for NODF and WNODF.
     pub order: Order,
     /// Packing search for [`IndexKind::Temperature`].
     pub temperature: TemperatureOptions,
+}
+
+impl IndexOptions {
+    /// Options with this order and temperature packing.
+    pub const fn new(order: Order, temperature: TemperatureOptions) -> Self {
+        IndexOptions { order, temperature }
+    }
 }
 
 fn nodf_part(kind: IndexKind, p: metrics::Parts) -> Result<f64> {

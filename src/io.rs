@@ -934,20 +934,24 @@ fn parse_edges(fields: &mut Fields<'_>, header: EdgeHeader) -> Result<Network<f6
 /// write_matrix(&net, &mut out, b',').unwrap();
 /// assert_eq!(String::from_utf8(out).unwrap(), ",C1,C2\nR1,2.5,0\nR2,1,1e-7\n");
 /// ```
-pub fn write_matrix<W: Write, T: Weight>(
+///
+/// Errors: [`Error::InvalidArgument`] for another delimiter,
+/// [`Error::Output`] when the writer fails.
+pub fn write_matrix<W: Write, T: Weight>(net: &Network<T>, out: W, delimiter: u8) -> Result<()> {
+    if !matches!(delimiter, b',' | b'\t' | b';') {
+        return Err(Error::InvalidArgument(format!(
+            "the delimiter {:?} is not one nidus reads; use ',', '\\t' or ';'",
+            delimiter as char
+        )));
+    }
+    write_cells(net, out, delimiter).map_err(|source| Error::Output { source })
+}
+
+fn write_cells<W: Write, T: Weight>(
     net: &Network<T>,
     out: W,
     delimiter: u8,
 ) -> std::io::Result<()> {
-    if !matches!(delimiter, b',' | b'\t' | b';') {
-        return Err(std::io::Error::new(
-            std::io::ErrorKind::InvalidInput,
-            format!(
-                "the delimiter {:?} is not one nidus reads; use ',', '\\t' or ';'",
-                delimiter as char
-            ),
-        ));
-    }
     let mut out = std::io::BufWriter::new(out);
     let d = [delimiter];
     for label in net.col_labels() {

@@ -22,6 +22,9 @@ pub mod bits;
 pub mod error;
 pub mod index;
 pub mod io;
+/// Bit-packing and popcount kernels with their CPU dispatch: internal,
+/// public only so that the tests can compare every path.
+#[doc(hidden)]
 pub mod kernels;
 pub mod measure;
 pub mod metrics;
@@ -29,6 +32,7 @@ pub mod network;
 pub mod null;
 pub mod significance;
 pub mod special;
+pub mod tolerance;
 
 /// The `ndarray` this crate is built with: use `nidus::ndarray` to build
 /// arrays whose type matches the library's signatures.

@@ -69,8 +69,10 @@ impl FromStr for Family {
     }
 }
 
-/// What to compute.
+/// What to compute. Build it with [`MeasureOptions::new`] or `Default` and
+/// set fields (new settings may be added).
 #[derive(Clone, Debug)]
+#[non_exhaustive]
 pub struct MeasureOptions {
     /// Order for NODF and WNODF.
     pub order: Order,
@@ -91,6 +93,15 @@ impl Default for MeasureOptions {
 }
 
 impl MeasureOptions {
+    /// Options computing `families` with this order and temperature packing.
+    pub fn new(order: Order, families: Vec<Family>, temperature: TemperatureOptions) -> Self {
+        MeasureOptions {
+            order,
+            families,
+            temperature,
+        }
+    }
+
     /// True when `f` is to be computed.
     pub fn wants(&self, f: Family) -> bool {
         self.families.contains(&f)

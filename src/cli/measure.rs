@@ -51,15 +51,15 @@ fn advise(e: Error, temperature: bool) -> Error {
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
-    let opts = MeasureOptions {
-        order: args.order,
-        families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
-        temperature: TemperatureOptions {
-            pack: !args.no_packing,
-            restarts: args.restarts,
-            ..TemperatureOptions::default()
-        },
-    };
+    let opts = MeasureOptions::new(
+        args.order,
+        args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
+        TemperatureOptions::new(
+            !args.no_packing,
+            args.restarts,
+            TemperatureOptions::default().seed,
+        ),
+    );
     let table = Table::new(args.format, &opts)?;
     let stdout = io::stdout();
     let mut out = stdout.lock();

@@ -215,9 +215,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             config.shard = args.shard;
             config.stop_after = args.stop_after;
             config.order = args.order;
-            config.options = NullOptions {
-                burn_in: args.burn_in,
-            };
+            config.options = NullOptions::new(args.burn_in);
             config.check().map(|()| config)
         })
         .collect::<nidus::Result<_>>()?;
@@ -271,9 +269,12 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 }
             };
             if let Some((path, w)) = saved.as_mut() {
-                run.write_draws(&shown, w).map_err(|source| Error::Write {
-                    path: path.clone(),
-                    source,
+                run.write_draws(&shown, w).map_err(|e| match e {
+                    Error::Output { source } => Error::Write {
+                        path: path.clone(),
+                        source,
+                    },
+                    e => e,
                 })?;
             }
             if let (Some(s), Some((path, _))) = (args.shard, saved.as_ref()) {

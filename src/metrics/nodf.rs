@@ -83,18 +83,6 @@ pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result
     Parts::from_sums("NODF", b.nrows(), b.ncols(), rows, cols)
 }
 
-/// Sum over the pairs of rows of `b` of the pair values (0-100 each).
-///
-/// For each lower row the overlaps with its uppers are summed as integers,
-/// then divided once by its degree; the per-row results are added in row
-/// order, so the value does not depend on the number of threads.
-#[allow(dead_code)] // the per-side sum other indices (null tests, contributions) reuse
-pub(crate) fn side_sum(b: &BitMatrix, order: Order) -> f64 {
-    let path = PopcountPath::detect();
-    let d = degrees_with(b, path);
-    side_value(&d, &upper_overlaps_with(b, &d, order, path))
-}
-
 /// `sum over rows l with d_l > 0, in row order, of 100 * overlaps[l] / d_l`.
 fn side_value(degrees: &[usize], overlaps: &[u64]) -> f64 {
     degrees

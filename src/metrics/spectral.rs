@@ -53,6 +53,7 @@ use rayon::prelude::*;
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
 use crate::network::{Csr, Network, Weight};
+use crate::tolerance;
 
 /// Largest Lanczos basis before a restart.
 pub const BASIS: usize = 30;
@@ -350,7 +351,7 @@ fn norm(w: &[f64]) -> f64 {
 /// Largest eigenvalue of a symmetric positive semi-definite operator of
 /// dimension `dim` (Lanczos, full reorthogonalisation, explicit restarts).
 fn lanczos_top(dim: usize, work: f64, mut apply: impl FnMut(&[f64], &mut [f64])) -> Result<f64> {
-    const TOL: f64 = 1e-12;
+    const TOL: f64 = tolerance::LANCZOS_RESIDUAL;
     let kmax = BASIS.min(dim);
     let mut start = vec![1.0 / (dim as f64).sqrt(); dim];
     let mut products = 0usize;
@@ -390,7 +391,8 @@ fn lanczos_top(dim: usize, work: f64, mut apply: impl FnMut(&[f64], &mut [f64]))
                 .iter()
                 .chain(&beta)
                 .fold(0.0f64, |a, &x| a.max(x.abs()));
-            let invariant = b <= 1e-14 * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
+            let invariant =
+                b <= tolerance::LANCZOS_INVARIANT * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
             // The small eigenproblem costs O(k^3): solved every step at
             // first, then every fourth step and at the end of each cycle.
             let check = invariant
@@ -508,11 +510,12 @@ fn long_lanczos(
         alpha.push(a);
         let b = norm(&w);
         let tnorm = alpha.iter().chain(&beta).fold(b, |m, &x| m.max(x.abs()));
-        let invariant = b <= 1e-14 * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
+        let invariant =
+            b <= tolerance::LANCZOS_INVARIANT * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
         if invariant || k + 1 == next_check {
             let theta = sturm_top(&alpha, &beta).max(last);
             change = (theta - last).abs() / theta.abs().max(f64::MIN_POSITIVE);
-            if invariant || change <= 1e-13 {
+            if invariant || change <= tolerance::LANCZOS_LONG_CHANGE {
                 return Ok(theta);
             }
             last = theta;
@@ -597,7 +600,7 @@ fn tridiagonal_top(alpha: &[f64], beta: &[f64]) -> (Vec<f64>, Vec<f64>, f64) {
             .map(|(p, q)| a[p * k + q] * a[p * k + q])
             .sum();
         let diag: f64 = (0..k).map(|p| a[p * k + p] * a[p * k + p]).sum();
-        if off <= 1e-32 * diag || off == 0.0 {
+        if off <= tolerance::JACOBI_OFF_DIAGONAL * diag || off == 0.0 {
             break;
         }
         for p in 0..k {

@@ -38,6 +38,7 @@ use crate::metrics::degree_order;
 use crate::network::{Network, Weight};
 use crate::null::{purpose, shuffle, stream_rng};
 use crate::special::ln_gamma;
+use crate::tolerance;
 
 /// The normalising constant of temperature: `T = 100 U / U_max` with `U` the
 /// mean unexpectedness per cell (Atmar & Patterson 1993). With it a large
@@ -102,6 +103,7 @@ const MAX_ROUNDS: usize = 1000;
 /// `restarts = 0`, or `pack = false`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[non_exhaustive]
 pub struct TemperatureOptions {
     /// Search for the packed order.
     pub pack: bool,
@@ -109,6 +111,18 @@ pub struct TemperatureOptions {
     pub restarts: usize,
     /// Seed of the random starts.
     pub seed: u64,
+}
+
+impl TemperatureOptions {
+    /// Options with these settings (`TemperatureOptions::default()` is
+    /// `new(true, 4, 1)`; new settings may be added).
+    pub const fn new(pack: bool, restarts: usize, seed: u64) -> Self {
+        TemperatureOptions {
+            pack,
+            restarts,
+            seed,
+        }
+    }
 }
 
 impl Default for TemperatureOptions {
@@ -281,7 +295,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
         } else {
             hi = t;
         }
-        if hi - lo <= 1e-16 {
+        if hi - lo <= tolerance::ISOCLINE_BRACKET {
             break;
         }
         let slope =
@@ -292,7 +306,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
         } else {
             0.5 * (lo + hi)
         };
-        if (next - t).abs() <= 1e-17 {
+        if (next - t).abs() <= tolerance::ISOCLINE_STEP {
             t = next;
             break;
         }
@@ -301,6 +315,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
     t
 }
 
+#[doc(hidden)]
 /// The unexpectedness every cell of an `m x n` matrix with `L` ones would
 /// get, for a presence and for an absence, at every position: the table
 /// behind [`temperature`]. Reusable for all matrices of the same shape and
@@ -511,6 +526,7 @@ pub fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<T
     temperature_with_table(b, &table, opts)
 }
 
+#[doc(hidden)]
 /// Largest table (in cells, 2^20: 16 MiB) that [`temperature_of_bits`]
 /// keeps per thread for reuse.
 pub const TABLE_CACHE_CELLS: usize = 1 << 20;
@@ -520,6 +536,7 @@ thread_local! {
         const { std::cell::RefCell::new(None) };
 }
 
+#[doc(hidden)]
 /// [`temperature_of_bits`] with a table built beforehand (it must have been
 /// built for the same shape and number of ones, else
 /// [`Error::InvalidArgument`]).
@@ -724,14 +741,14 @@ impl<'a> Packer<'a> {
             let mut improved = false;
             let new_rows = self.best_rows(&cols, &mut cost, &mut row_work);
             let t = self.table.total(self.b, &new_rows, &cols);
-            if t < total - 1e-12 * (1.0 + total) {
+            if t < total - tolerance::PACKING_IMPROVEMENT * (1.0 + total) {
                 rows = new_rows;
                 total = t;
                 improved = true;
             }
             let new_cols = self.best_cols(&rows, &mut cost, &mut col_work);
             let t = self.table.total(self.b, &rows, &new_cols);
-            if t < total - 1e-12 * (1.0 + total) {
+            if t < total - tolerance::PACKING_IMPROVEMENT * (1.0 + total) {
                 cols = new_cols;
                 total = t;
                 improved = true;

@@ -76,7 +76,8 @@ pub use patefield::FixedTotals;
 pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
-/// The null models, named as on the command line.
+/// The null models, named as on the command line (more may be added).
+#[non_exhaustive]
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum NullModel {
@@ -158,14 +159,23 @@ impl FromStr for NullModel {
     }
 }
 
-/// Options that some models read.
+/// Options that some models read. Build it with [`NullOptions::new`] or
+/// `Default` and set fields (new options may be added).
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[non_exhaustive]
 pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
     /// `5 * max(m, n)`. Values below that default are allowed (for
     /// experiments) but METHODS.md asks for at least the default.
     pub burn_in: Option<usize>,
+}
+
+impl NullOptions {
+    /// Options with the given curveball trades per `fixed-both` draw.
+    pub const fn new(burn_in: Option<usize>) -> Self {
+        NullOptions { burn_in }
+    }
 }
 
 /// One null matrix: binary models give a [`BitMatrix`], weighted models a
@@ -280,6 +290,7 @@ impl NullSampler {
     }
 }
 
+#[doc(hidden)]
 /// SplitMix64's output function applied to `x + 0x9E3779B97F4A7C15`
 /// (Steele, Lea & Flood 2014, OOPSLA; constants from memory, pinned by a
 /// value test).

@@ -16,7 +16,7 @@ use crate::significance::{as_extreme, stopping_point, summarize, NullSummary};
 /// Draws evaluated together between progress reports and stop checks. A
 /// constant (not a function of the thread count) so that a sequential stop
 /// ends after the same draws on any machine.
-pub const BATCH: usize = 64;
+pub(crate) const BATCH: usize = 64;
 
 /// One part of a run split for a cluster: shard `index` of `count`
 /// (1-based) takes the draws `k` (0-based) with `k % count == index - 1`.
@@ -75,7 +75,10 @@ impl serde::Serialize for Shard {
 }
 
 /// What to run: one model, the indices to test, how many draws and how.
+/// Build it with [`NullConfig::new`] and set fields (new settings may be
+/// added).
 #[derive(Clone, Debug)]
+#[non_exhaustive]
 pub struct NullConfig {
     /// The null model.
     pub model: NullModel,
@@ -148,10 +151,10 @@ impl NullConfig {
         }
         if !self.model.is_weighted() {
             if let Some(k) = self.indices.iter().find(|k| k.needs_weights()) {
-                return Err(Error::InvalidArgument(format!(
-                    "{k} reads weights but {} draws binary matrices; test it against shuffle-cells, shuffle-weights or fixed-totals",
-                    self.model
-                )));
+                return Err(Error::WeightsUnderBinaryModel {
+                    index: k.name(),
+                    model: self.model.name(),
+                });
             }
         }
         Ok(())
@@ -225,12 +228,11 @@ impl NullRun {
     /// for a shard or an incomplete run (merge the shards first).
     pub fn summaries(&self) -> Result<Vec<NullSummary>> {
         if !self.is_complete() {
-            return Err(Error::InvalidArgument(format!(
-                "these are {} of the {} draws (shard {}); merge every shard before summarising",
-                self.draw_ids.len(),
-                self.draws,
-                self.shard.map_or("-".to_string(), |s| s.to_string())
-            )));
+            return Err(Error::IncompleteRun {
+                held: self.draw_ids.len(),
+                draws: self.draws,
+                shard: self.shard.map(|s| (s.index(), s.count())),
+            });
         }
         self.indices
             .iter()
@@ -271,7 +273,7 @@ pub fn run_null<T: Weight>(net: &Network<T>, config: &NullConfig) -> Result<Null
 ///
 /// Draw `k` is made with [`crate::null::draw_rng`]`(seed, k)` and every
 /// index is evaluated on it; draws are computed in parallel in batches of
-/// [`BATCH`] in draw order and stored in draw order, so the values (and the
+/// 64 draws in draw order and stored in draw order, so the values (and the
 /// summaries) are identical for any thread count, and the draws of shards
 /// `1/K..K/K` together are exactly the draws of the unsplit run. With a
 /// sequential stop the run ends after the first batch by which every index
