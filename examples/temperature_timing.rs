@@ -24,7 +24,7 @@ fn main() {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(42);
     let b = BitMatrix::from_fn(size, size, |_, _| rng.random_bool(fill));
 
-    let plain = TemperatureOptions::new(false, 4, 1);
+    let plain = TemperatureOptions::default().with_pack(false);
     let t0 = Instant::now();
     let t = temperature_of_bits(&b, &plain).unwrap();
     let dt_plain = t0.elapsed();
@@ -48,7 +48,7 @@ fn main() {
     let Some(restarts) = restarts else {
         return;
     };
-    let opts = TemperatureOptions::new(true, restarts, 1);
+    let opts = TemperatureOptions::default().with_restarts(restarts);
     let t0 = Instant::now();
     let t = temperature_of_bits(&b, &opts).unwrap();
     println!(

@@ -54,11 +54,9 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let opts = MeasureOptions::new(
         args.order,
         args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
-        TemperatureOptions::new(
-            !args.no_packing,
-            args.restarts,
-            TemperatureOptions::default().seed,
-        ),
+        TemperatureOptions::default()
+            .with_pack(!args.no_packing)
+            .with_restarts(args.restarts),
     );
     let table = Table::new(args.format, &opts)?;
     let stdout = io::stdout();

@@ -3,6 +3,7 @@
 //! [`Measurement`]; only the text report names fields.
 
 use nidus::measure::{measure, Family, MeasureOptions, Measurement};
+use nidus::metrics::DiscrepancyTies;
 use nidus::ndarray::array;
 use nidus::Network;
 use serde_json::{Map, Value};
@@ -157,8 +158,19 @@ impl Table {
                 }
                 Family::Discrepancy => {
                     if let Some(d) = m.discrepancy {
+                        let side = |t: DiscrepancyTies| {
+                            match t.minimum {
+                            Some(min) => format!("{min} (ties in file order: {})", t.stable),
+                            None => format!(
+                                "{} with ties in file order (fewest not computed: a tie group is too large)",
+                                t.stable
+                            ),
+                        }
+                        };
                         s += &format!(
-                            "  discrepancy  {d}   (links out of place; 0 is perfectly nested)\n"
+                            "  discrepancy  {} within rows, {} within columns\n               (links to move to make the matrix nested, fewest over the orders of species with equal degrees; 0 is perfectly nested)\n",
+                            side(d.rows),
+                            side(d.cols)
                         );
                     }
                 }

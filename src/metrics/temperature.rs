@@ -123,6 +123,21 @@ impl TemperatureOptions {
             seed,
         }
     }
+
+    /// These options with packing on or off.
+    pub const fn with_pack(self, pack: bool) -> Self {
+        TemperatureOptions { pack, ..self }
+    }
+
+    /// These options with `restarts` random starts.
+    pub const fn with_restarts(self, restarts: usize) -> Self {
+        TemperatureOptions { restarts, ..self }
+    }
+
+    /// These options with seed `seed` for the random starts.
+    pub const fn with_seed(self, seed: u64) -> Self {
+        TemperatureOptions { seed, ..self }
+    }
 }
 
 impl Default for TemperatureOptions {
@@ -219,8 +234,10 @@ fn zeta(k: usize) -> f64 {
     }
 }
 
-/// `zeta(3), zeta(5), zeta(7), zeta(9)` (from memory; checked against
-/// direct summation in the tests).
+/// `zeta(3), zeta(5), zeta(7), zeta(9)`: the first three as tabulated in
+/// OEIS A002117, A013663 and A013665 (Abramowitz & Stegun 1964, p. 811);
+/// all four checked in the tests against the series summed to 2000 terms
+/// with its Euler-Maclaurin tail, to 1e-15.
 #[allow(clippy::excessive_precision)]
 const ZETA_ODD: [f64; 4] = [
     1.2020569031595942,
