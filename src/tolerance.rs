@@ -18,7 +18,7 @@ pub const ISOCLINE_BRACKET: f64 = 1e-16;
 pub const ISOCLINE_STEP: f64 = 1e-17;
 
 /// Lanczos (spectral radius): relative residual of the restarted phase,
-/// `r <= LANCZOS_RESIDUAL * theta` (see `metrics::spectral`).
+/// `r <= LANCZOS_RESIDUAL * theta` (see `numerics::lanczos`).
 pub const LANCZOS_RESIDUAL: f64 = 1e-12;
 
 /// Lanczos: the Krylov space is invariant when the next off-diagonal
