@@ -10,6 +10,7 @@ use std::path::Path;
 
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
+mod flat;
 mod measure;
 mod merge;
 mod null;
