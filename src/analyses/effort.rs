@@ -159,7 +159,8 @@ impl VisitTable {
         }
         if total > MAX_VISITS {
             return Err(Error::InvalidArgument(
-                "sampling effort accepts at most 2^53 visits in all; this network holds more".into(),
+                "sampling effort accepts at most 2^53 visits in all; this network holds more"
+                    .into(),
             ));
         }
         if counts.is_empty() {
@@ -214,29 +215,44 @@ impl VisitTable {
 
     /// The network of a subsample: `sub[c]` visits in cell `c` (in the
     /// order of [`counts`](Self::counts)), species without a visit dropped,
-    /// labels kept.
+    /// the others in their order with their labels.
     ///
     /// Errors: a subsample without any visit.
     pub fn network_of(&self, sub: &[u64]) -> Result<Network<f64>> {
+        // Kept species keep their order in the file (the given order of
+        // NODF and the ties of discrepancy read it).
         let mut row_new = vec![u32::MAX; self.nrows];
         let mut col_new = vec![u32::MAX; self.ncols];
-        let (mut row_labels, mut col_labels) = (Vec::new(), Vec::new());
-        let mut entries = Vec::new();
         for (c, &x) in sub.iter().enumerate() {
-            if x == 0 {
-                continue;
+            if x > 0 {
+                row_new[self.rows[c] as usize] = 0;
+                col_new[self.cols[c] as usize] = 0;
             }
-            let (i, j) = (self.rows[c] as usize, self.cols[c] as usize);
-            if row_new[i] == u32::MAX {
-                row_new[i] = row_labels.len() as u32;
-                row_labels.push(self.row_labels[i].clone());
-            }
-            if col_new[j] == u32::MAX {
-                col_new[j] = col_labels.len() as u32;
-                col_labels.push(self.col_labels[j].clone());
-            }
-            entries.push((row_new[i], col_new[j], x as f64));
         }
+        let renumber = |new: &mut [u32], labels: &[String]| {
+            let mut kept = Vec::new();
+            for (i, slot) in new.iter_mut().enumerate() {
+                if *slot == 0 {
+                    *slot = kept.len() as u32;
+                    kept.push(labels[i].clone());
+                }
+            }
+            kept
+        };
+        let row_labels = renumber(&mut row_new, &self.row_labels);
+        let col_labels = renumber(&mut col_new, &self.col_labels);
+        let entries: Vec<(u32, u32, f64)> = sub
+            .iter()
+            .enumerate()
+            .filter(|&(_, &x)| x > 0)
+            .map(|(c, &x)| {
+                (
+                    row_new[self.rows[c] as usize],
+                    col_new[self.cols[c] as usize],
+                    x as f64,
+                )
+            })
+            .collect();
         Network::from_triplets(row_labels, col_labels, entries)
     }
 }
@@ -267,7 +283,11 @@ impl VisitTable {
 /// assert_eq!(s.iter().sum::<u64>(), 6);
 /// assert!(s.iter().zip(t.counts()).all(|(x, w)| x <= w));
 /// ```
-pub fn subsample<R: rand::Rng + ?Sized>(table: &VisitTable, n: u64, rng: &mut R) -> Result<Vec<u64>> {
+pub fn subsample<R: rand::Rng + ?Sized>(
+    table: &VisitTable,
+    n: u64,
+    rng: &mut R,
+) -> Result<Vec<u64>> {
     if n > table.total {
         return Err(Error::InvalidArgument(format!(
             "a subsample of {n} visits is larger than the {} visits recorded",
@@ -293,11 +313,11 @@ pub fn subsample<R: rand::Rng + ?Sized>(table: &VisitTable, n: u64, rng: &mut R)
 ///
 /// `E[L_n] = sum over cells of 1 - C(N - w_ij, n) / C(N, n)`,
 ///
-/// the ratio taken in log space, `ln C(N - w, n) - ln C(N, n) = lnG(N - w +
-/// 1) + lnG(N - n + 1) - lnG(N - w - n + 1) - lnG(N + 1)` (terms with `N -
-/// w < n` are 1). For `w <= 64` the ratio is the product `prod_{t < w} (1 -
-/// n / (N - t))`, summed as logarithms with `ln_1p`, which keeps full
-/// accuracy when `n` is small against `N`.
+/// the ratio taken in log space,
+/// `ln C(N - w, n) - ln C(N, n) = lnG(N - w + 1) + lnG(N - n + 1) - lnG(N - w - n + 1) - lnG(N + 1)`
+/// (a cell with `N - w < n` counts 1). For `w <= 64` the ratio is the
+/// product `prod_{t < w} (1 - n / (N - t))`, summed as logarithms with
+/// `ln_1p`, which keeps full accuracy when `n` is small against `N`.
 ///
 /// Cost `O(L)` (at most 64 logarithms per cell).
 ///
@@ -440,7 +460,13 @@ impl Band {
                 defined: 0,
             };
         }
-        let mean = v.iter().sum::<f64>() / v.len() as f64;
+        // Identical values (every subsample at n = N) give that value
+        // exactly, not a rounded sum over their count.
+        let mean = if v.iter().all(|x| x.to_bits() == v[0].to_bits()) {
+            v[0]
+        } else {
+            v.iter().sum::<f64>() / v.len() as f64
+        };
         v.sort_by(f64::total_cmp);
         Band {
             mean: Some(mean),
@@ -813,7 +839,11 @@ fn defined(r: Result<f64>) -> Result<Option<f64>> {
 /// The values of the indices on one network: the one place this module
 /// calls the crate's index layer (spectral radius computed once for both
 /// of its views).
-fn index_values(net: &Network<f64>, kinds: &[IndexKind], opts: &IndexOptions) -> Result<Vec<Option<f64>>> {
+fn index_values(
+    net: &Network<f64>,
+    kinds: &[IndexKind],
+    opts: &IndexOptions,
+) -> Result<Vec<Option<f64>>> {
     let mut spectral = None;
     kinds
         .iter()
@@ -823,7 +853,11 @@ fn index_values(net: &Network<f64>, kinds: &[IndexKind], opts: &IndexOptions) ->
                     spectral = Some(crate::metrics::spectral_radius(net)?);
                 }
                 let s = spectral.expect("set above");
-                Ok(Some(if k == IndexKind::Spectral { s.binary } else { s.weighted }))
+                Ok(Some(if k == IndexKind::Spectral {
+                    s.binary
+                } else {
+                    s.weighted
+                }))
             }
             _ => defined(crate::index::evaluate(k, net, opts)),
         })
@@ -831,7 +865,12 @@ fn index_values(net: &Network<f64>, kinds: &[IndexKind], opts: &IndexOptions) ->
 }
 
 /// NODF's z and p_greater on one subsample against the null model.
-fn null_test(net: &Network<f64>, nl: &EffortNull, seed: u64, order: Order) -> Result<(Option<f64>, Option<f64>)> {
+fn null_test(
+    net: &Network<f64>,
+    nl: &EffortNull,
+    seed: u64,
+    order: Order,
+) -> Result<(Option<f64>, Option<f64>)> {
     let mut config = NullConfig::new(nl.model, vec![IndexKind::Nodf], nl.draws, seed);
     config.order = order;
     let run = match crate::null::run_null(net, &config) {
@@ -886,7 +925,8 @@ fn run_inner<T: Weight>(
             }
             let null = match &config.null {
                 Some(nl) if k < n_tests => {
-                    let seed = splitmix64(effort_key(config.seed, di as u64, k as u64) ^ NULL_PURPOSE);
+                    let seed =
+                        splitmix64(effort_key(config.seed, di as u64, k as u64) ^ NULL_PURPOSE);
                     Some(null_test(&sub_net, nl, seed, config.order)?)
                 }
                 _ => None,
@@ -921,8 +961,9 @@ fn run_inner<T: Weight>(
             let ps: Vec<f64> = nulls.iter().filter_map(|t| t.1).collect();
             DepthNull {
                 z: Band::of(&z),
-                significant_share: (!ps.is_empty())
-                    .then(|| ps.iter().filter(|&&p| p <= nl.alpha).count() as f64 / ps.len() as f64),
+                significant_share: (!ps.is_empty()).then(|| {
+                    ps.iter().filter(|&&p| p <= nl.alpha).count() as f64 / ps.len() as f64
+                }),
                 tests: ps.len(),
             }
         });

@@ -8,6 +8,7 @@ use std::io::{self, Write};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use nidus::io::{EdgeHeader, Layout, ReadOptions};
 
+mod effort;
 mod measure;
 mod merge;
 mod null;
@@ -42,6 +43,8 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Rarefy a visit-count network: is it sampled enough for its nestedness to mean anything?
+    Effort(effort::EffortArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -77,6 +80,7 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Effort(args) => effort::run(args),
     };
     match result {
         Ok(code) => code,

@@ -125,7 +125,13 @@ fn one_by_one<R: Rng + ?Sized>(rng: &mut R, pop: u64, a: u64, b: u64) -> u64 {
 
 /// Ratio of uniforms for `H(pop, s, d)` with `s, d <= pop / 2` (so the
 /// support is `0..=min(s, d)`).
-fn ratio_of_uniforms<R: Rng + ?Sized>(rng: &mut R, pop: u64, s: u64, d: u64, lnf: &LnFactorial) -> u64 {
+fn ratio_of_uniforms<R: Rng + ?Sized>(
+    rng: &mut R,
+    pop: u64,
+    s: u64,
+    d: u64,
+    lnf: &LnFactorial,
+) -> u64 {
     let (popf, sf, df) = (pop as f64, s as f64, d as f64);
     let mean = df * sf / popf;
     let var = df * sf * (popf - sf) * (popf - df) / (popf * popf * (popf - 1.0));
