@@ -250,7 +250,7 @@ fn band_text(b: &Band, digits: usize) -> String {
     match (b.mean, b.q025, b.q975) {
         (Some(m), Some(lo), Some(hi)) => {
             format!(
-                "{} [{}-{}]",
+                "{} [{}, {}]",
                 f(Some(m), digits),
                 f(Some(lo), digits),
                 f(Some(hi), digits)
@@ -300,7 +300,7 @@ fn text_report(file: &str, r: &EffortResult) -> String {
     );
     s += &format!(
         "\n  rarefaction: {} subsamples per depth without replacement, seed {}; species without a visit in a \
-         subsample are dropped before its indices are computed. Cells: mean [2.5 %-97.5 %].\n",
+         subsample are dropped before its indices are computed. Cells: mean [2.5 %, 97.5 %] over the subsamples.\n",
         r.draws, r.seed
     );
     let mut head = format!(
@@ -417,14 +417,20 @@ fn reading(r: &EffortResult) -> String {
             }
         }
     }
-    if let (Some(n), Some(first)) = (&r.null, r.depths.first()) {
-        if let Some(p) = first.null.and_then(|x| x.significant_share) {
+    if let (Some(n), Some(first), Some(last)) = (&r.null, r.depths.first(), r.depths.last()) {
+        if let (Some(p0), Some(p1)) = (
+            first.null.and_then(|x| x.significant_share),
+            last.null.and_then(|x| x.significant_share),
+        ) {
             s += &format!(
-                "  - NODF against {}: at the smallest depth ({} visits) {:.0} % of the tested subsamples \
-                 are more nested than chance at p <= 0.05.\n",
+                "  - NODF against {}: more nested than chance (p <= 0.05) in {:.0} % of the tested subsamples \
+                 at {} visits and {:.0} % at {} visits; a conclusion that holds at every depth does not \
+                 hinge on effort.\n",
                 n.model,
+                100.0 * p0,
                 first.depth,
-                100.0 * p
+                100.0 * p1,
+                last.depth
             );
         }
     }
