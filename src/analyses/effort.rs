@@ -74,7 +74,13 @@ pub const DEFAULT_INDICES: &[IndexKind] = &[
 ];
 
 /// The key of subsample `k` at depth number `d`: `splitmix64(draw_key(seed,
-/// d) ^ splitmix64(k))`. Part of the reproducibility contract.
+/// d) ^ splitmix64(k))`. Part of the reproducibility contract. Cost `O(1)`.
+///
+/// ```
+/// use nidus::analyses::effort::effort_key;
+/// use nidus::null::{draw_key, splitmix64};
+/// assert_eq!(effort_key(42, 3, 7), splitmix64(draw_key(42, 3) ^ splitmix64(7)));
+/// ```
 pub fn effort_key(seed: u64, depth_index: u64, k: u64) -> u64 {
     splitmix64(draw_key(seed, depth_index) ^ splitmix64(k))
 }
@@ -100,7 +106,18 @@ pub struct VisitTable {
 }
 
 impl VisitTable {
-    /// Reads the counts of `net`, multiplied by `scale` when given.
+    /// Reads the counts of `net`, multiplied by `scale` when given. Cost
+    /// `O(L)` plus a `ln k!` table of at most 2^16 values.
+    ///
+    /// ```
+    /// use ndarray::array;
+    /// use nidus::analyses::effort::VisitTable;
+    /// use nidus::Network;
+    /// let net = Network::from_array(array![[0.5, 0.25], [1.0, 0.0]]).unwrap();
+    /// assert!(VisitTable::new(&net, None).is_err()); // not whole visits
+    /// let t = VisitTable::new(&net, Some(4.0)).unwrap();
+    /// assert_eq!((t.total(), t.counts()), (7, &[2, 1, 4][..]));
+    /// ```
     ///
     /// Errors: a network whose non-zero cells are all 1 (a presence-only
     /// table: effort needs counts); a count that is not a whole number
@@ -448,7 +465,16 @@ pub struct Band {
 
 impl Band {
     /// Summarises values in draw order (`None`: undefined on that draw).
-    /// The mean is summed in draw order. Cost `O(R log R)`.
+    /// The mean is summed in draw order; quantiles by Hyndman & Fan's
+    /// definition 7 (`h = (R - 1) p`, linear interpolation). Cost
+    /// `O(R log R)`.
+    ///
+    /// ```
+    /// use nidus::analyses::effort::Band;
+    /// let b = Band::of(&[Some(3.0), None, Some(1.0), Some(2.0)]);
+    /// assert_eq!((b.mean, b.q50, b.defined), (Some(2.0), Some(2.0), 3));
+    /// assert_eq!(b.q025, Some(1.05)); // 1 + 0.05 (2 - 1)
+    /// ```
     pub fn of(values: &[Option<f64>]) -> Band {
         let mut v: Vec<f64> = values.iter().flatten().copied().collect();
         if v.is_empty() {
@@ -699,7 +725,23 @@ impl EffortResult {
     }
 
     /// The curve of a quantity (see [`bands`](Self::bands)) as plain data
-    /// for a figure: visits, mean, 2.5 and 97.5 % quantiles.
+    /// for a figure: visits, mean, 2.5 and 97.5 % quantiles. Cost
+    /// `O(depths)`.
+    ///
+    /// ```
+    /// use ndarray::array;
+    /// use nidus::analyses::effort::{run_effort, EffortConfig};
+    /// use nidus::Network;
+    /// let net = Network::from_array(array![[6, 3, 1], [2, 1, 0], [1, 0, 0]]).unwrap();
+    /// let mut config = EffortConfig::new(3);
+    /// config.draws = 20;
+    /// let r = run_effort(&net, &config).unwrap();
+    /// let c = r.curve("links").unwrap();
+    /// assert_eq!(c.x.last(), Some(&14.0));
+    /// assert_eq!(c.mean.last(), Some(&6.0));
+    /// assert!(c.low.iter().zip(&c.high).all(|(l, h)| l <= h));
+    /// assert!(r.curve("no such thing").is_none());
+    /// ```
     pub fn curve(&self, key: &str) -> Option<Curve> {
         let bands = self.bands(key)?;
         let mut c = Curve {
@@ -731,7 +773,18 @@ impl EffortResult {
     /// The smallest depth from which on the full-effort value of a quantity
     /// lies within the 2.5-97.5 % band of every depth: where its rarefied
     /// values stop drifting. `None` for an unknown key or when the value at
-    /// full effort is undefined.
+    /// full effort is undefined. When the last depth is `N` its band is the
+    /// full value itself, so the answer is at most `N`. Cost `O(depths)`.
+    ///
+    /// ```
+    /// use ndarray::array;
+    /// use nidus::analyses::effort::{run_effort, EffortConfig};
+    /// use nidus::Network;
+    /// let net = Network::from_array(array![[6, 3, 1], [2, 1, 0], [1, 0, 0]]).unwrap();
+    /// let r = run_effort(&net, &EffortConfig::new(3)).unwrap();
+    /// let d = r.levels_off_at("links").unwrap();
+    /// assert!(d >= 1 && d <= 14);
+    /// ```
     pub fn levels_off_at(&self, key: &str) -> Option<u64> {
         let bands = self.bands(key)?;
         let full = bands.last()?.mean?;
@@ -752,14 +805,14 @@ impl EffortResult {
 /// use ndarray::array;
 /// use nidus::analyses::effort::{run_effort, EffortConfig};
 /// use nidus::Network;
-/// let net = Network::from_array(array![[9, 4, 2, 1], [5, 2, 1, 0], [3, 1, 0, 0]]).unwrap();
+/// let net = Network::from_array(array![[9, 4, 2], [5, 2, 0], [3, 0, 0]]).unwrap();
 /// let mut config = EffortConfig::new(7);
-/// config.depths = Some(vec![10, 29]);
+/// config.depths = Some(vec![10, 25]);
 /// config.draws = 50;
 /// let r = run_effort(&net, &config).unwrap();
-/// assert_eq!(r.visits, 29);
+/// assert_eq!(r.visits, 25);
 /// // At n = N every subsample is the observed network.
-/// assert_eq!(r.depths[1].links.mean, Some(9.0));
+/// assert_eq!(r.depths[1].links.mean, Some(6.0));
 /// assert_eq!(r.depths[1].indices[0].q025, Some(100.0)); // NODF of a staircase
 /// ```
 pub fn run_effort<T: Weight>(net: &Network<T>, config: &EffortConfig) -> Result<EffortResult> {
