@@ -459,6 +459,34 @@ fn command_line() {
         text.contains("Reading:") && text.contains("Chao1") && text.contains("z vs equiprobable"),
         "{text}"
     );
+    // A bad depth and a fractional count: status 2, the place named.
+    let out = nidus(&["effort", &f, "--seed", "1", "--depths", "0,5"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("depth 0"));
+    let g = write("rates.csv", "plant,a,b\np1,0.5,2\np2,1,0\n");
+    let out = nidus(&["effort", &g, "--seed", "1"]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("row 'p1', column 'a'") && err.contains("--scale"),
+        "{err}"
+    );
+    let out = nidus(&[
+        "effort", &g, "--seed", "1", "--scale", "2", "--format", "json",
+    ]);
+    assert!(out.status.success());
+    let first: Value = serde_json::from_str(
+        String::from_utf8(out.stdout)
+            .unwrap()
+            .lines()
+            .next()
+            .unwrap(),
+    )
+    .unwrap();
+    assert_eq!(
+        (first["visits"].as_u64(), first["scale"].as_f64()),
+        (Some(7), Some(2.0))
+    );
     // Presence-only: exit status 2 and a message naming the file.
     let p = write("presence.csv", "plant,a,b\np1,1,1\np2,1,0\n");
     let out = nidus(&["effort", &p, "--seed", "1"]);
