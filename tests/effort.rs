@@ -254,7 +254,7 @@ fn full_depth_equals_measure() {
             m.wnodf.unwrap().total,
             m.spectral_radius.unwrap().binary,
             m.spectral_radius.unwrap().weighted,
-            m.discrepancy.unwrap() as f64,
+            m.discrepancy.unwrap().rows.stable as f64,
         ];
         for (b, w) in full.indices.iter().zip(want) {
             for q in [b.mean, b.q025, b.q50, b.q975] {

@@ -34,8 +34,9 @@ pub struct EffortArgs {
     /// Seed: subsample k at depth d depends on (seed, d, k) alone.
     #[arg(long, required = true, value_name = "S")]
     seed: u64,
-    /// Indices computed on every subsample, comma-separated: nodf, nodf-rows, nodf-cols,
-    /// wnodf, temperature, temperature-sorted, spectral, spectral-weighted, discrepancy.
+    /// Indices computed on every subsample, comma-separated: any index of `nidus null --index`
+    /// (nodf, nodf-rows, nodf-cols, wnodf, temperature, temperature-sorted, spectral,
+    /// spectral-weighted, discrepancy, ...).
     #[arg(long, default_value = "nodf,wnodf,spectral,spectral-weighted", value_name = "LIST",
           value_parser = parse_list::<IndexKind>)]
     index: List<IndexKind>,
