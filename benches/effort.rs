@@ -48,7 +48,10 @@ fn bench(c: &mut Criterion) {
     let mut config = EffortConfig::new(7);
     config.depths = Some(vec![half]);
     config.draws = 99;
-    config.indices = vec![IndexKind::Nodf, IndexKind::Wnodf];
+    config.indices = vec![
+        IndexKind::named("nodf").unwrap(),
+        IndexKind::named("wnodf").unwrap(),
+    ];
     config.threads = Some(2);
     g.bench_function("depth_99x2threads", |b| {
         b.iter(|| run_effort(&net, &config).unwrap())

@@ -158,7 +158,7 @@ fn simulated_links_agree_with_rarefaction_formula() {
         let net = random_counts(&mut rng, 12, 15, 0.4, 9);
         let mut config = EffortConfig::new(100 + t);
         config.draws = 400;
-        config.indices = vec![IndexKind::Nodf];
+        config.indices = vec![IndexKind::named("nodf").unwrap()];
         let r = run_effort(&net, &config).unwrap();
         for d in &r.depths {
             // Recover the sd from the per-draw values by rerunning the
@@ -239,11 +239,11 @@ fn full_depth_equals_measure() {
         let mut config = EffortConfig::new(t);
         config.draws = 3;
         config.indices = vec![
-            IndexKind::Nodf,
-            IndexKind::Wnodf,
-            IndexKind::Spectral,
-            IndexKind::SpectralWeighted,
-            IndexKind::Discrepancy,
+            IndexKind::named("nodf").unwrap(),
+            IndexKind::named("wnodf").unwrap(),
+            IndexKind::named("spectral").unwrap(),
+            IndexKind::named("spectral-weighted").unwrap(),
+            IndexKind::named("discrepancy").unwrap(),
         ];
         let r = run_effort(&net, &config).unwrap();
         let full = r.depths.last().unwrap();
@@ -268,7 +268,10 @@ fn full_depth_equals_measure() {
         assert_eq!(spectral_radius(&net).unwrap().weighted, want[3]);
         // The given order reads the order of the file, which subsamples keep.
         config.order = Order::Given;
-        config.indices = vec![IndexKind::Nodf, IndexKind::Wnodf];
+        config.indices = vec![
+            IndexKind::named("nodf").unwrap(),
+            IndexKind::named("wnodf").unwrap(),
+        ];
         let r = run_effort(&net, &config).unwrap();
         let full = r.depths.last().unwrap();
         assert_eq!(

@@ -66,12 +66,15 @@ pub const NULL_PURPOSE: u64 = 0x6E75_6C6C_7465_7374;
 
 /// The indices computed when none are named: NODF, WNODF and the spectral
 /// radius of the binary view and of the weights.
-pub const DEFAULT_INDICES: &[IndexKind] = &[
-    IndexKind::Nodf,
-    IndexKind::Wnodf,
-    IndexKind::Spectral,
-    IndexKind::SpectralWeighted,
-];
+pub const DEFAULT_INDICES: &[&str] = &["nodf", "wnodf", "spectral", "spectral-weighted"];
+
+/// [`DEFAULT_INDICES`] as index handles.
+pub fn default_indices() -> Vec<IndexKind> {
+    DEFAULT_INDICES
+        .iter()
+        .map(|n| IndexKind::named(n).expect("a built-in index"))
+        .collect()
+}
 
 /// The key of subsample `k` at depth number `d`: `splitmix64(draw_key(seed,
 /// d) ^ splitmix64(k))`. Part of the reproducibility contract. Cost `O(1)`.
@@ -360,7 +363,7 @@ pub fn expected_links(counts: &[u64], n: u64) -> f64 {
                 let ln: f64 = (0..w).map(|t| (-nf / (big - t as f64)).ln_1p()).sum();
                 -ln.exp_m1()
             } else {
-                use crate::special::ln_gamma;
+                use crate::numerics::special::ln_gamma;
                 let rest = (total - w) as f64;
                 let ln = ln_gamma(rest + 1.0) + ln_gamma(big - nf + 1.0)
                     - ln_gamma(rest - nf + 1.0)
@@ -562,7 +565,7 @@ impl EffortConfig {
             depths: None,
             draws: DEFAULT_DRAWS,
             seed,
-            indices: DEFAULT_INDICES.to_vec(),
+            indices: default_indices(),
             order: Order::Sorted,
             scale: None,
             threads: None,
@@ -900,13 +903,13 @@ fn index_values(
     let mut spectral = None;
     kinds
         .iter()
-        .map(|&k| match k {
-            IndexKind::Spectral | IndexKind::SpectralWeighted => {
+        .map(|&k| match k.name() {
+            "spectral" | "spectral-weighted" => {
                 if spectral.is_none() {
                     spectral = Some(crate::metrics::spectral_radius(net)?);
                 }
                 let s = spectral.expect("set above");
-                Ok(Some(if k == IndexKind::Spectral {
+                Ok(Some(if k.name() == "spectral" {
                     s.binary
                 } else {
                     s.weighted
@@ -924,7 +927,7 @@ fn null_test(
     seed: u64,
     order: Order,
 ) -> Result<(Option<f64>, Option<f64>)> {
-    let mut config = NullConfig::new(nl.model, vec![IndexKind::Nodf], nl.draws, seed);
+    let mut config = NullConfig::new(nl.model, vec![IndexKind::named("nodf")?], nl.draws, seed);
     config.order = order;
     let run = match crate::null::run_null(net, &config) {
         Ok(r) => r,

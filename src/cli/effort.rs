@@ -385,7 +385,7 @@ fn reading(r: &EffortResult) -> String {
             d.indices[i].mean
         });
         let Some(full) = full else { continue };
-        if k == IndexKind::SpectralWeighted {
+        if k.name() == "spectral-weighted" {
             s += &format!(
                 "  - {}: {full:.2} at full effort; it is in units of visits and grows with them by \
                  construction, so compare it only between networks at the same depth.\n",

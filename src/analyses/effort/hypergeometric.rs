@@ -175,7 +175,7 @@ fn ratio_of_uniforms<R: Rng + ?Sized>(
 mod tests {
     use super::*;
     use crate::null::draw_rng;
-    use crate::special::ln_gamma;
+    use crate::numerics::special::ln_gamma;
 
     /// The exact probability `C(s, k) C(pop - s, d - k) / C(pop, d)`, from
     /// the log-Gamma function (an independent route from the sampler's
