@@ -115,7 +115,10 @@ impl MeasureOptions {
 
 /// The description of a network and the indices asked for. An index not
 /// asked for is `None`; so is WNODF of a binary network (it would be 0 by
-/// definition, which says nothing).
+/// definition, which says nothing), and so is an index that cannot be
+/// computed on this network (NODF of a 1 x 1 network, temperature of a
+/// network too large for a dense table): its reason is then in
+/// [`Measurement::not_computed`], and the other indices are still computed.
 #[derive(Clone, Debug)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Measurement {
@@ -150,6 +153,11 @@ pub struct Measurement {
         serde(skip_serializing_if = "std::collections::BTreeMap::is_empty")
     )]
     pub more: std::collections::BTreeMap<&'static str, f64>,
+    /// Why an index asked for was not computed, keyed as its field
+    /// ([`Family::key`], or the registry name for an entry of
+    /// [`Measurement::more`]): the error's message. WNODF of a binary
+    /// network is listed here too. Empty when everything was computed.
+    pub not_computed: std::collections::BTreeMap<&'static str, String>,
 }
 
 /// Computes the description of `net` and the indices `opts` asks for.
@@ -165,31 +173,63 @@ pub struct Measurement {
 /// ```
 pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Measurement> {
     let weighted = net.is_weighted();
+    let mut not_computed = std::collections::BTreeMap::new();
+    let mut keep = |f: Family, r: Result<_>| match r {
+        Ok(v) => Some(v),
+        Err(e) => {
+            not_computed.insert(f.key(), e.to_string());
+            None
+        }
+    };
     let nodf = if opts.wants(Family::Nodf) {
-        Some(metrics::nodf(net, opts.order)?)
+        keep(Family::Nodf, metrics::nodf(net, opts.order))
     } else {
         None
     };
     let wnodf = if opts.wants(Family::Wnodf) && weighted {
-        Some(metrics::wnodf(net, opts.order)?)
+        keep(Family::Wnodf, metrics::wnodf(net, opts.order))
     } else {
         None
     };
     let temperature = if opts.wants(Family::Temperature) {
-        Some(metrics::temperature(net, &opts.temperature)?)
+        match metrics::temperature(net, &opts.temperature) {
+            Ok(t) => Some(t),
+            Err(e) => {
+                not_computed.insert(Family::Temperature.key(), e.to_string());
+                None
+            }
+        }
     } else {
         None
     };
     let spectral_radius = if opts.wants(Family::Spectral) {
-        Some(metrics::spectral_radius(net)?)
+        match metrics::spectral_radius(net) {
+            Ok(r) => Some(r),
+            Err(e) => {
+                not_computed.insert(Family::Spectral.key(), e.to_string());
+                None
+            }
+        }
     } else {
         None
     };
     let discrepancy = if opts.wants(Family::Discrepancy) {
-        Some(metrics::discrepancies(net)?)
+        match metrics::discrepancies(net) {
+            Ok(d) => Some(d),
+            Err(e) => {
+                not_computed.insert(Family::Discrepancy.key(), e.to_string());
+                None
+            }
+        }
     } else {
         None
     };
+    if opts.wants(Family::Wnodf) && !weighted {
+        not_computed.insert(
+            Family::Wnodf.key(),
+            "every link has weight 1 (WNODF of a binary network is 0 by definition)".to_string(),
+        );
+    }
     let mut more = std::collections::BTreeMap::new();
     let options = metrics::IndexOptions {
         order: opts.order,
@@ -197,7 +237,14 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
     };
     for e in metrics::BUILTINS {
         if e.family.parse::<Family>().is_err() {
-            more.insert(e.name, (e.evaluate)(net, &options)?);
+            match (e.evaluate)(net, &options) {
+                Ok(v) => {
+                    more.insert(e.name, v);
+                }
+                Err(err) => {
+                    not_computed.insert(e.name, err.to_string());
+                }
+            }
         }
     }
     Ok(Measurement {
@@ -213,5 +260,6 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         spectral_radius,
         discrepancy,
         more,
+        not_computed,
     })
 }

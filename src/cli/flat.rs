@@ -68,11 +68,14 @@ fn walk(
 }
 
 /// A scalar as a CSV cell: numbers as Rust prints them (`1` for 1.0, as
-/// before the columns came from the types), text quoted when needed.
+/// before the columns came from the types), booleans as `TRUE`/`FALSE`
+/// (what R's `read.csv` reads as logical; pandas reads them as bool too),
+/// text quoted when needed.
 fn cell(v: &Value) -> String {
     match v {
         Value::Null | Value::Array(_) | Value::Object(_) => String::new(),
-        Value::Bool(b) => b.to_string(),
+        // R's read.csv reads TRUE/FALSE as logical (JSON keeps true/false).
+        Value::Bool(b) => if *b { "TRUE" } else { "FALSE" }.to_string(),
         Value::Number(n) => {
             if let Some(u) = n.as_u64() {
                 u.to_string()

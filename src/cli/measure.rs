@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::measure::{measure, Family, MeasureOptions};
+use nidus::measure::{measure, Family, MeasureOptions, Measurement};
 use nidus::metrics::TemperatureOptions;
 use nidus::{Error, Order};
 
@@ -40,21 +40,30 @@ pub struct MeasureArgs {
     format: Format,
 }
 
-/// The command line's advice on a library error: a network too large for
-/// a dense table (which only temperature needs) names the option that
-/// leaves temperature out.
-fn advise(e: Error, temperature: bool) -> Error {
-    match e {
-        Error::TooLarge { .. } if temperature => Error::InvalidArgument(format!(
-            "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
-        )),
-        e => e,
-    }
+/// An index the user named in `--indices` that could not be computed
+/// fails the file (exit 2); with the default set it is reported as not
+/// computed and the others stand. WNODF of a binary network is not a
+/// failure (it is 0 by definition and simply not reported).
+fn explicit_failure(m: &Measurement, asked: &[Family]) -> Option<Error> {
+    asked
+        .iter()
+        .filter(|f| !(**f == Family::Wnodf && !m.weighted))
+        .find_map(|f| {
+            m.not_computed.get(f.key()).map(|reason| {
+                let advice = if *f == Family::Temperature {
+                    "; leave temperature out of --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
+                } else {
+                    ""
+                };
+                Error::InvalidArgument(format!("{}: {reason}{advice}", f.name()))
+            })
+        })
 }
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
     super::check_stdin_once(&args.files)?;
+    let explicit: Vec<Family> = args.indices.as_ref().map_or_else(Vec::new, |l| l.0.clone());
     let opts = MeasureOptions::new(
         args.order,
         args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
@@ -74,9 +83,13 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     for file in &args.files {
         let shown = input_name(file);
         let result = read_input(file, &read).and_then(|read| {
+            let dropped = read.report.dropped();
             let net = read.network;
             let m = measure(&net, &opts)?;
-            Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels())))
+            if let Some(e) = explicit_failure(&m, &explicit) {
+                return Err(e);
+            }
+            Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels()), dropped))
         });
         match result {
             Ok(text) => {
@@ -86,7 +99,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             }
             Err(e) => {
                 failed += 1;
-                report_failure(&shown, &advise(e, opts.wants(Family::Temperature)));
+                report_failure(&shown, &e);
             }
         }
     }

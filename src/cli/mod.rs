@@ -15,6 +15,7 @@ mod flat;
 mod measure;
 mod merge;
 mod null;
+mod numbers;
 mod report;
 mod sample;
 mod species;

@@ -17,6 +17,7 @@ use serde_json::Value;
 
 pub use super::emit;
 use super::flat::FlatTable;
+use super::numbers::num;
 use super::{
     input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
 };
@@ -65,10 +66,11 @@ pub struct NullArgs {
 }
 
 /// One JSON line or CSV row of a null test: the run's identity, then the
-/// fields of [`NullSummary`] as serde writes them. `draws` is placed with
-/// the identity; the summary's own `draws` (the same number) fills that
-/// place when the line is turned into a JSON map (keys keep their first
-/// position), so it appears once.
+/// fields of [`NullSummary`] as serde writes them, then the headline `p`
+/// and the run's settings. `draws` is placed with the identity; the
+/// summary's own `draws` (the same number) fills that place when the line
+/// is turned into a JSON map (keys keep their first position), so it
+/// appears once.
 #[derive(serde::Serialize)]
 struct NullLine<'a> {
     file: &'a str,
@@ -78,21 +80,102 @@ struct NullLine<'a> {
     seed: u64,
     #[serde(flatten)]
     summary: &'a NullSummary,
+    /// The p-value in the more-nested direction (`p_greater` or `p_less`);
+    /// `null` when every null value equals the observed one.
+    p: Option<f64>,
+    /// Why the null model cannot test this index (its values do not vary),
+    /// or `null`.
+    p_reason: Option<String>,
+    /// Order used by NODF and WNODF.
+    order: Order,
+    /// Curveball trades per draw (`fixed-both` only).
+    burn_in: Option<usize>,
+    /// Draws asked for (`--draws`).
+    draws_requested: usize,
+    /// Draws computed (all of them, or fewer after a sequential stop).
+    draws_done: usize,
+    /// The sequential-stop limit `--stop-after`.
+    stop_after: Option<usize>,
+    /// The nidus version that computed the result.
+    nidus_version: &'static str,
+}
+
+/// The settings of a run recorded beside each of its results.
+#[derive(Clone, Copy)]
+struct Settings {
+    model: NullModel,
+    seed: u64,
+    order: Order,
+    burn_in: Option<usize>,
+    draws_requested: usize,
+    draws_done: usize,
+    stop_after: Option<usize>,
+}
+
+impl Settings {
+    fn of(run: &NullRun) -> Self {
+        Settings {
+            model: run.model,
+            seed: run.seed,
+            order: run.order,
+            burn_in: run.burn_in,
+            draws_requested: run.draws,
+            draws_done: run.draw_ids.len(),
+            stop_after: run.stop_after,
+        }
+    }
+}
+
+/// The headline p-value and, when the null values do not vary, why the
+/// test says nothing. A null model that leaves every draw with the same
+/// value (only one matrix fits the margins; shuffling the weights of a
+/// binary network) gives p = 1 in both directions when that value is the
+/// observed one: no evidence either way, so no `p`.
+fn headline(model: NullModel, x: &NullSummary) -> (Option<f64>, Option<String>) {
+    if x.sd != 0.0 {
+        return (Some(x.p_more_nested()), None);
+    }
+    let same = x.q50.to_bits() == x.observed.to_bits();
+    let why = match (model, same) {
+        (NullModel::ShuffleWeights, true) => {
+            "no test: permuting the weights among the links leaves this index at its observed value \
+             (the network is binary, or the index reads only which cells are links)"
+        }
+        (_, true) => {
+            "no test: every null network has the observed value (only one network keeps what this \
+             model keeps, for example these row and column totals)"
+        }
+        (_, false) => {
+            "every null network has the same value, which differs from the observed one; \
+             p only says on which side the observed value lies"
+        }
+    };
+    let p = if same { None } else { Some(x.p_more_nested()) };
+    (p, Some(why.to_string()))
 }
 
 fn line(
     file: &str,
-    (model, seed): (NullModel, u64),
+    set: Settings,
     index: IndexKind,
     summary: &NullSummary,
 ) -> nidus::Result<Value> {
+    let (p, p_reason) = headline(set.model, summary);
     let line = NullLine {
         file,
         index,
-        model,
+        model: set.model,
         draws: summary.draws,
-        seed,
+        seed: set.seed,
         summary,
+        p,
+        p_reason,
+        order: set.order,
+        burn_in: set.burn_in,
+        draws_requested: set.draws_requested,
+        draws_done: set.draws_done,
+        stop_after: set.stop_after,
+        nidus_version: env!("CARGO_PKG_VERSION"),
     };
     serde_json::to_value(line)
         .map_err(|e| Error::InvalidArgument(format!("cannot write the result: {e}")))
@@ -101,12 +184,18 @@ fn line(
 /// The CSV columns: those of a line with every field present.
 fn csv_table() -> nidus::Result<FlatTable> {
     let summary = summarize(1.0, &[0.0, 2.0], Direction::Greater, None)?;
-    Ok(FlatTable::new(line(
-        "",
-        (NullModel::Equiprobable, 0),
-        IndexKind::named("nodf")?,
-        &summary,
-    )?))
+    let set = Settings {
+        model: NullModel::Equiprobable,
+        seed: 0,
+        order: Order::Sorted,
+        burn_in: Some(1),
+        draws_requested: 2,
+        draws_done: 2,
+        stop_after: Some(1),
+    };
+    let mut template = line("", set, IndexKind::named("nodf")?, &summary)?;
+    template["p_reason"] = Value::from("");
+    Ok(FlatTable::new(template))
 }
 
 /// The CSV header line, for formats that have one.
@@ -118,16 +207,32 @@ pub fn header(format: Format) -> nidus::Result<Option<String>> {
     })
 }
 
+/// "higher NODF is more nested", "lower temperature is more nested".
+fn direction_words(kind: IndexKind) -> String {
+    let way = match kind.more_nested() {
+        Direction::Greater => "higher",
+        Direction::Less => "lower",
+    };
+    format!("{way} {} is more nested", kind.name())
+}
+
 /// The output for one run (one file and one model, every index).
 pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String> {
     let summaries = run.summaries()?;
+    let set = Settings::of(run);
     let mut s = String::new();
     if format == Format::Text {
+        let done = if run.draw_ids.len() < run.draws {
+            format!(", {} computed", run.draw_ids.len())
+        } else {
+            String::new()
+        };
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
             run.model,
             run.seed,
             run.draws,
+            run.order.name(),
             run.burn_in.map_or(String::new(), |b| format!(
                 ", {b} curveball trades per draw"
             )),
@@ -139,8 +244,7 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
             "null mean",
             "null sd",
             "z",
-            "p_greater",
-            "p_less",
+            "p",
             "null 2.5% / 50% / 97.5%",
             "draws"
         );
@@ -150,40 +254,72 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
     } else {
         None
     };
+    let mut notes: Vec<(String, Vec<&str>)> = Vec::new();
     for (kind, sum) in run.indices.iter().zip(&summaries) {
         match (format, &csv) {
-            (Format::Text, _) => s += &text(*kind, sum),
-            (Format::Csv, Some(t)) => s += &t.row(&line(file, (run.model, run.seed), *kind, sum)?),
-            _ => s += &(line(file, (run.model, run.seed), *kind, sum)?.to_string() + "\n"),
+            (Format::Text, _) => {
+                s += &text(*kind, sum);
+                if let (_, Some(reason)) = headline(run.model, sum) {
+                    match notes.iter_mut().find(|(r, _)| *r == reason) {
+                        Some((_, names)) => names.push(kind.name()),
+                        None => notes.push((reason, vec![kind.name()])),
+                    }
+                }
+            }
+            (Format::Csv, Some(t)) => s += &t.row(&line(file, set, *kind, sum)?),
+            _ => s += &(line(file, set, *kind, sum)?.to_string() + "\n"),
         }
     }
     if format == Format::Text {
+        let mut ways: Vec<String> = Vec::new();
+        for k in &run.indices {
+            let w = direction_words(*k);
+            if !ways.contains(&w) {
+                ways.push(w);
+            }
+        }
+        s += &format!(
+            "  direction: {}.\n  p: the chance that a null network is at least as nested as the observed one, \
+             (1 + #{{null draws at least as nested}}) / (draws + 1); a small p means more nested than the null model.\n",
+            ways.join("; ")
+        );
+        for (reason, names) in notes {
+            s += &format!("  {}: {reason}.\n", names.join(", "));
+        }
         s.push('\n');
     }
     Ok(s)
 }
 
 fn text(kind: IndexKind, x: &NullSummary) -> String {
-    let dir = serde_json::to_value(x.more_nested)
-        .ok()
-        .and_then(|v| v.as_str().map(str::to_string))
-        .unwrap_or_default();
-    let z = x.z.map_or("-".to_string(), |z| format!("{z:.2}"));
+    let z = x.z.map_or("-".to_string(), num);
+    let (p, _) = headline(NullModel::Equiprobable, x);
+    let p = p.map_or("no test".to_string(), num);
+    let more = match x.more_nested {
+        Direction::Greater => x.observed > x.mean,
+        Direction::Less => x.observed < x.mean,
+    };
+    let vs = if x.observed == x.mean {
+        "as nested"
+    } else if more {
+        "more nested"
+    } else {
+        "less nested"
+    };
     let stop = if x.stopped_early {
         "  (stopped early: sequential p-value)"
     } else {
         ""
     };
-    let q = format!("{:.2} / {:.2} / {:.2}", x.q025, x.q50, x.q975);
+    let q = format!("{} / {} / {}", num(x.q025), num(x.q50), num(x.q975));
     format!(
-        "  {:<24} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
+        "  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  {vs}{stop}\n",
         kind.name(),
-        x.observed,
-        x.mean,
-        x.sd,
+        num(x.observed),
+        num(x.mean),
+        num(x.sd),
         z,
-        x.p_greater,
-        x.p_less,
+        p,
         q,
         x.draws
     )
@@ -194,7 +330,8 @@ fn progress_bar(total: usize, label: &str) -> ProgressBar {
         return ProgressBar::hidden();
     }
     let bar = ProgressBar::new(total as u64);
-    if let Ok(style) = ProgressStyle::with_template("{msg} [{bar:30}] {pos}/{len} draws ({eta})") {
+    if let Ok(style) = ProgressStyle::with_template("{msg} [{bar:30}] {pos}/{len} draws, eta {eta}")
+    {
         bar.set_style(style.progress_chars("=> "));
     }
     bar.set_message(label.to_string());

@@ -9,6 +9,7 @@ use nidus::Network;
 use serde_json::{Map, Value};
 
 use super::flat::FlatTable;
+use super::numbers::num;
 use super::Format;
 
 /// Turns measurements into output text, one file at a time.
@@ -16,10 +17,21 @@ pub struct Table {
     format: Format,
     families: Vec<Family>,
     csv: Option<FlatTable>,
+    settings: Settings,
 }
 
-fn fmt2(x: Option<f64>) -> String {
-    x.map_or("none (fewer than 2)".into(), |v| format!("{v:.2}"))
+/// Settings recorded beside each measurement (JSON/CSV keys of the same
+/// names), besides `order`, which [`Measurement`] carries.
+#[derive(Clone, Copy, Debug)]
+struct Settings {
+    /// Temperature: random starts of the packing search.
+    restarts: usize,
+    /// Temperature: was the packed order searched for?
+    packing: bool,
+}
+
+fn part(x: Option<f64>) -> String {
+    x.map_or("none (fewer than 2)".into(), num)
 }
 
 /// A measurement as one JSON record: `file`, then the fields of
@@ -30,6 +42,8 @@ fn record(
     m: &Measurement,
     families: &[Family],
     (rows, cols): (&[String], &[String]),
+    settings: Settings,
+    (dropped_rows, dropped_cols): (usize, usize),
 ) -> Value {
     let mut o = Map::new();
     o.insert("file".into(), file.into());
@@ -43,6 +57,11 @@ fn record(
             }
         }
     }
+    o.insert("restarts".into(), settings.restarts.into());
+    o.insert("packing".into(), settings.packing.into());
+    o.insert("dropped_rows".into(), dropped_rows.into());
+    o.insert("dropped_cols".into(), dropped_cols.into());
+    o.insert("nidus_version".into(), env!("CARGO_PKG_VERSION").into());
     if let Some(Value::Object(t)) = o.get_mut("temperature") {
         for (key, labels) in [("row_order", rows), ("col_order", cols)] {
             if let Some(Value::Array(order)) = t.get_mut(key) {
@@ -62,6 +81,10 @@ impl Table {
     /// For CSV the columns are those of a measurement, with the same options,
     /// of a small weighted network in which every index is defined.
     pub fn new(format: Format, opts: &MeasureOptions) -> nidus::Result<Self> {
+        let settings = Settings {
+            restarts: opts.temperature.restarts,
+            packing: opts.temperature.pack,
+        };
         let families: Vec<Family> = Family::ALL
             .iter()
             .copied()
@@ -72,7 +95,14 @@ impl Table {
                 Network::from_array(array![[3.0, 2.0, 1.0], [2.0, 1.0, 0.0], [1.0, 0.0, 0.0]])?;
             let m = measure(&net, opts)?;
             let labels = (net.row_labels(), net.col_labels());
-            Some(FlatTable::new(record("", &m, &families, labels)))
+            let mut template = record("", &m, &families, labels, settings, (0, 0));
+            // Every family asked for may be not computed: a column each.
+            let reasons: Map<String, Value> = families
+                .iter()
+                .map(|f| (f.key().to_string(), Value::from("")))
+                .collect();
+            template["not_computed"] = Value::Object(reasons);
+            Some(FlatTable::new(template))
         } else {
             None
         };
@@ -80,6 +110,7 @@ impl Table {
             format,
             families,
             csv,
+            settings,
         })
     }
 
@@ -89,70 +120,105 @@ impl Table {
     }
 
     /// The output for one file.
-    /// `labels` (rows, columns) name the species in temperature's orders.
-    pub fn record(&self, file: &str, m: &Measurement, labels: (&[String], &[String])) -> String {
+    /// `labels` (rows, columns) name the species in temperature's orders;
+    /// `dropped` counts the (row, column) species the reader dropped.
+    pub fn record(
+        &self,
+        file: &str,
+        m: &Measurement,
+        labels: (&[String], &[String]),
+        dropped: (usize, usize),
+    ) -> String {
+        let json = || record(file, m, &self.families, labels, self.settings, dropped);
         match (self.format, &self.csv) {
-            (Format::Csv, Some(csv)) => csv.row(&record(file, m, &self.families, labels)),
-            (Format::Text, _) => self.text(file, m),
-            _ => record(file, m, &self.families, labels).to_string() + "\n",
+            (Format::Csv, Some(csv)) => csv.row(&json()),
+            (Format::Text, _) => self.text(file, m, dropped),
+            _ => json().to_string() + "\n",
         }
     }
 
-    fn text(&self, file: &str, m: &Measurement) -> String {
+    fn text(&self, file: &str, m: &Measurement, dropped: (usize, usize)) -> String {
         let mut s = format!("{file}\n");
+        let dropped = match dropped {
+            (0, 0) => String::new(),
+            (r, c) => format!(" ({r} row and {c} column species without links left out)"),
+        };
         s += &format!(
-            "  size         {} rows x {} columns, {} links, fill {:.4}, {}\n",
+            "  size         {} rows x {} columns, {} links, fill {}, {}{dropped}\n",
             m.rows,
             m.cols,
             m.links,
-            m.fill,
+            num(m.fill),
             if m.weighted { "weighted" } else { "binary" }
         );
-        s += &format!("  order        {} (for NODF and WNODF)\n", m.order.name());
+        let packing = if !self.families.contains(&Family::Temperature) {
+            String::new()
+        } else if self.settings.packing {
+            format!(
+                "; temperature packing with {} random restarts",
+                self.settings.restarts
+            )
+        } else {
+            "; temperature packing off".to_string()
+        };
+        s += &format!(
+            "  order        {} (for NODF and WNODF){packing}\n",
+            m.order.name()
+        );
         for f in &self.families {
+            if let (Some(reason), false) = (
+                m.not_computed.get(f.key()),
+                *f == Family::Wnodf && !m.weighted,
+            ) {
+                let label = match f {
+                    Family::Nodf => "NODF",
+                    Family::Wnodf => "WNODF",
+                    f => f.name(),
+                };
+                s += &format!("  {label:<12} not computed: {reason}\n");
+                continue;
+            }
             match f {
                 Family::Nodf => {
                     if let Some(p) = m.nodf {
                         s += &format!(
-                            "  NODF         {:.2}   rows {}, columns {}\n",
-                            p.total,
-                            fmt2(p.rows),
-                            fmt2(p.cols)
+                            "  NODF         {}   rows {}, columns {}\n",
+                            num(p.total),
+                            part(p.rows),
+                            part(p.cols)
                         );
                     }
                 }
                 Family::Wnodf => match m.wnodf {
                     Some(p) => {
                         s += &format!(
-                            "  WNODF        {:.2}   rows {}, columns {}\n",
-                            p.total,
-                            fmt2(p.rows),
-                            fmt2(p.cols)
+                            "  WNODF        {}   rows {}, columns {}\n",
+                            num(p.total),
+                            part(p.rows),
+                            part(p.cols)
                         )
                     }
                     None => s += "  WNODF        not computed: every link has weight 1\n",
                 },
                 Family::Temperature => {
                     if let Some(t) = &m.temperature {
-                        let packed = t
-                            .packed
-                            .map_or("not searched".into(), |p| format!("{p:.2}"));
+                        let packed = t.packed.map_or("not searched".into(), num);
                         s += &format!(
-                            "  temperature  {packed} packed, {:.2} sorted, {:.2} given   (isocline p {:.3}; lower is more nested)\n",
-                            t.sorted, t.given, t.isocline_p
+                            "  temperature  {packed} packed, {} sorted, {} given   (isocline p {}; lower is more nested)\n",
+                            num(t.sorted), num(t.given), num(t.isocline_p)
                         );
                     }
                 }
                 Family::Spectral => {
                     if let Some(r) = m.spectral_radius {
                         let weighted = if m.weighted {
-                            format!("weighted {:.4}, ", r.weighted)
+                            format!("weighted {}, ", num(r.weighted))
                         } else {
                             String::new()
                         };
                         s += &format!(
-                            "  spectral     radius {weighted}binary {:.4}   (binary / sqrt(links) {:.4})\n",
-                            r.binary, r.binary_normalized
+                            "  spectral     radius {weighted}binary {}   (binary / sqrt(links) {}; higher is more nested)\n",
+                            num(r.binary), num(r.binary_normalized)
                         );
                     }
                 }
