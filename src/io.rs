@@ -351,6 +351,7 @@ pub fn parse_network_reported(
         Layout::Matrix => parse_matrix(&mut fields, opts.labels, &mut report)?,
         Layout::Edges => parse_edges(&mut fields, opts.edge_header, &mut report)?,
     };
+    report.notes.extend(fields.empty_lines_note());
     let network = table.finish(opts, &mut report)?;
     Ok(ReadOutcome { network, report })
 }
@@ -475,9 +476,7 @@ fn detect_delimiter(text: &[u8]) -> u8 {
 /// ending with a line break, the length of that line with its break. Cost:
 /// the length of that line.
 fn blank_line_len(text: &[u8], delim: u8) -> Option<usize> {
-    let end = text
-        .iter()
-        .position(|&b| !b.is_ascii_whitespace() || b == b'\n' || b == delim)?;
+    let end = text.iter().position(|&b| !is_blank_byte(b) || b == delim)?;
     (text[end] == b'\n').then_some(end + 1)
 }
 
@@ -531,6 +530,16 @@ struct Fields<'a> {
     /// The first value written with a decimal point and the first with a
     /// decimal comma, as `(line, field, text)` (kept for `;` files only).
     marks: [Option<(usize, usize, String)>; 2],
+    /// Lines skipped for holding only delimiters and spaces: how many, and
+    /// the first [`ReadNote::LISTED`] line numbers.
+    empty_lines: (usize, Vec<usize>),
+}
+
+/// Bytes a blank line may hold besides its line break: spaces, tabs and
+/// carriage returns. A form feed or another control character is content
+/// (a label may consist of one).
+fn is_blank_byte(b: u8) -> bool {
+    matches!(b, b' ' | b'\t' | b'\r')
 }
 
 impl<'a> Fields<'a> {
@@ -542,6 +551,7 @@ impl<'a> Fields<'a> {
             delim,
             source,
             marks: [None, None],
+            empty_lines: (0, Vec::new()),
         }
     }
 
@@ -595,19 +605,43 @@ impl<'a> Fields<'a> {
         parse_error(self.source, line, field, message)
     }
 
+    /// Fills `out` with the next record that has content and returns its
+    /// first physical line, or `None` at the end of the text. Blank lines
+    /// are skipped; so are lines whose fields are all empty (only
+    /// delimiters and spaces, as spreadsheets export below a table), which
+    /// are counted in `empty_lines` for the report.
+    fn next_record(&mut self, out: &mut Vec<Cow<'a, str>>) -> Result<Option<usize>> {
+        loop {
+            match self.next_nonblank(out)? {
+                Some(line) if out.iter().all(|f| f.is_empty()) => {
+                    self.empty_lines.0 += 1;
+                    if self.empty_lines.1.len() < ReadNote::LISTED {
+                        self.empty_lines.1.push(line);
+                    }
+                }
+                r => return Ok(r),
+            }
+        }
+    }
+
+    /// The skipped delimiter-only lines as a note, if there were any.
+    fn empty_lines_note(&self) -> Option<ReadNote> {
+        (self.empty_lines.0 > 0).then(|| ReadNote::EmptyLines {
+            count: self.empty_lines.0,
+            first: self.empty_lines.1.clone(),
+        })
+    }
+
     /// Fills `out` with the next non-blank record and returns its first
     /// physical line, or `None` at the end of the text.
-    fn next_record(&mut self, out: &mut Vec<Cow<'a, str>>) -> Result<Option<usize>> {
+    fn next_nonblank(&mut self, out: &mut Vec<Cow<'a, str>>) -> Result<Option<usize>> {
         let bytes = self.text.as_bytes();
         // Skip blank lines: only whitespace and no delimiter (a last line
         // without a break too). Each byte is looked at once.
         let delim = self.delim;
         loop {
             let rest = &bytes[self.pos..];
-            match rest
-                .iter()
-                .position(|&b| !b.is_ascii_whitespace() || b == b'\n' || b == delim)
-            {
+            match rest.iter().position(|&b| !is_blank_byte(b) || b == delim) {
                 None => {
                     self.pos = bytes.len();
                     return Ok(None);

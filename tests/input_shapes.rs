@@ -544,14 +544,47 @@ fn issue10_18_form_feed_label_and_round_trip() {
         assert_eq!(back.row_labels(), net.row_labels());
         assert_eq!(back.col_labels(), net.col_labels());
     }
-    // A line of delimiters only is not blank: an error naming it.
-    let err = parse("p,a\nx,1\n,\n", &ReadOptions::default())
+    // A line whose only content is a form feed is content, not a blank
+    // line: here a row label without values, an error naming its line.
+    let err = parse("p,a\nx,1\n\u{c}\ny,1\n", &ReadOptions::default())
         .unwrap_err()
         .to_string();
-    assert!(
-        err.contains("line 3, field 1: this line holds only delimiters"),
-        "{err}"
+    assert!(err.contains("line 3"), "{err}");
+}
+
+/// Lines of delimiters only (every field empty after trimming spaces), as
+/// spreadsheets export below a table, are skipped and reported with their
+/// line numbers (comma and tab files, matrix and edge layouts).
+#[test]
+fn delimiter_only_lines_are_skipped_and_reported() {
+    let got = parse("p,a,b\nx,1,0\n,,\ny,1,1\n, ,\n", &ReadOptions::default()).unwrap();
+    assert_eq!(got.network.row_labels(), ["x", "y"]);
+    assert_eq!(
+        got.report.notes,
+        vec![ReadNote::EmptyLines {
+            count: 2,
+            first: vec![3, 5]
+        }]
     );
+    assert!(got.report.notes[0].to_string().contains("lines 3, 5"));
+    let got = parse("p\ta\nx\t1\n\t\n\t\n", &ReadOptions::default()).unwrap();
+    assert_eq!(got.network.row_labels(), ["x"]);
+    assert_eq!(
+        got.report.notes,
+        vec![ReadNote::EmptyLines {
+            count: 2,
+            first: vec![3, 4]
+        }]
+    );
+    let got = parse("x,a,1\n,,\ny,b,2\n", &EDGES).unwrap();
+    assert_eq!(got.network.row_labels(), ["x", "y"]);
+    assert!(matches!(
+        got.report.notes[..],
+        [ReadNote::EmptyLines { count: 1, .. }]
+    ));
+    // A file without such lines has no note.
+    let got = parse("p,a\nx,1\n", &ReadOptions::default()).unwrap();
+    assert!(got.report.notes.is_empty());
 }
 
 // ---- Edge-list hint (issue 9, item 5) ----

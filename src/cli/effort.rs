@@ -37,7 +37,7 @@ pub struct EffortArgs {
     /// Indices computed on every subsample, comma-separated: any index of `nidus null --index`
     /// (nodf, nodf-rows, nodf-cols, wnodf, temperature, temperature-sorted, spectral,
     /// spectral-weighted, discrepancy, ...).
-    #[arg(long, default_value = "nodf,wnodf,spectral,spectral-weighted", value_name = "LIST",
+    #[arg(long, alias = "indices", default_value = "nodf,wnodf,spectral,spectral-weighted", value_name = "LIST",
           value_parser = parse_list::<IndexKind>)]
     index: List<IndexKind>,
     /// Multiply every value by F to get whole visit counts (for tables of rates or

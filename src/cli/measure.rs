@@ -25,7 +25,8 @@ pub struct MeasureArgs {
     #[command(flatten)]
     input: LayoutArgs,
     /// Index families to compute (the list comes from the registry of indices).
-    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>,
+    /// `--indices` is an older spelling, still accepted.
+    #[arg(long = "index", alias = "indices", value_name = "LIST", value_parser = parse_list::<Family>,
           help = format!("Indices to compute, comma-separated: {} (default: all)",
                          nidus::metrics::registry::families().join(", ")))]
     indices: Option<List<Family>>,
@@ -40,7 +41,7 @@ pub struct MeasureArgs {
     format: Format,
 }
 
-/// An index the user named in `--indices` that could not be computed
+/// An index the user named in `--index` that could not be computed
 /// fails the file (exit 2); with the default set it is reported as not
 /// computed and the others stand. WNODF of a binary network is not a
 /// failure (it is 0 by definition and simply not reported).
@@ -51,7 +52,7 @@ fn explicit_failure(m: &Measurement, asked: &[Family]) -> Option<Error> {
         .find_map(|f| {
             m.not_computed.get(f.key()).map(|reason| {
                 let advice = if *f == Family::Temperature {
-                    "; leave temperature out of --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
+                    "; leave temperature out of --index (for example --index nodf,wnodf,spectral,discrepancy)"
                 } else {
                     ""
                 };

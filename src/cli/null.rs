@@ -32,7 +32,7 @@ pub struct NullArgs {
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
     /// Indices to test (the list comes from the registry of indices).
-    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
+    #[arg(long, alias = "indices", default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
           help = format!("Indices to test, comma-separated: {}",
                          nidus::metrics::registry::help_list()))]
     index: List<IndexKind>,

@@ -37,7 +37,9 @@ pub fn num_digits(x: f64, digits: usize) -> String {
     let s = format!("{x:.decimals$}");
     // Rounding may carry into a new digit (9.99995 -> 10.000): one digit fewer.
     let s = match s.trim_start_matches('-').split_once('.') {
-        Some((int, _)) if decimals > 0 && int.trim_start_matches('0').len() as i64 > mag + 1 => {
+        Some((int, _))
+            if decimals > 0 && int.trim_start_matches('0').len() as i64 > (mag + 1).max(0) =>
+        {
             format!("{x:.*}", decimals - 1)
         }
         _ => s,
@@ -60,7 +62,7 @@ mod tests {
     #[test]
     fn keeps_significant_digits() {
         assert_eq!(num(0.0123), "0.0123");
-        assert_eq!(num(0.012345), "0.01235");
+        assert_eq!(num(0.012346), "0.01235");
         assert_eq!(num(77.229514), "77.23");
         assert_eq!(num(254.777), "254.8");
         assert_eq!(num(100.0), "100");
@@ -71,6 +73,8 @@ mod tests {
         assert_eq!(num(0.000999996), "0.001");
         assert_eq!(num(1.2e-7), "1.2e-7");
         assert_eq!(num(0.0), "0");
+        assert_eq!(num(1.0 / 81.0), "0.01235");
+        assert_eq!(num(0.99996), "1");
         assert_eq!(num_digits(0.30000000000000004, 3), "0.3");
         assert_eq!(num(f64::NAN), "NaN");
     }

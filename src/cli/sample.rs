@@ -20,8 +20,8 @@ pub struct SampleArgs {
     /// The null model (one name).
     #[arg(long, value_name = "M")]
     model: NullModel,
-    /// Number of null networks to write.
-    #[arg(long, value_name = "N")]
+    /// Number of null networks to write (`--count` is an older spelling, still accepted).
+    #[arg(long = "draws", alias = "count", value_name = "N")]
     count: usize,
     /// Seed: network k is draw k of `nidus null` with the same seed and model.
     #[arg(long, value_name = "S")]

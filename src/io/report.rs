@@ -43,6 +43,15 @@ pub enum ReadNote {
         /// [`ReadNote::LISTED`]).
         first: Vec<String>,
     },
+    /// Lines holding only delimiters and spaces (every field empty, as
+    /// spreadsheets export below a table) were skipped.
+    EmptyLines {
+        /// How many were skipped.
+        count: usize,
+        /// The first few physical line numbers (at most
+        /// [`ReadNote::LISTED`]).
+        first: Vec<usize>,
+    },
 }
 
 /// Why [`EdgeHeader::Auto`] took the first line of an edge list for a
@@ -99,6 +108,19 @@ impl fmt::Display for ReadNote {
                     f,
                     "dropped {count} {side} species with no link: {}",
                     first.join(", ")
+                )?;
+                if *count > first.len() {
+                    write!(f, " and {} more", count - first.len())?;
+                }
+                Ok(())
+            }
+            ReadNote::EmptyLines { count, first } => {
+                let lines: Vec<String> = first.iter().map(usize::to_string).collect();
+                let s = if *count == 1 { "" } else { "s" };
+                write!(
+                    f,
+                    "skipped {count} line{s} holding only delimiters (every field empty): line{s} {}",
+                    lines.join(", ")
                 )?;
                 if *count > first.len() {
                     write!(f, " and {} more", count - first.len())?;
