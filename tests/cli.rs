@@ -327,7 +327,10 @@ fn csv_columns_are_json_paths() {
                         )
                     }
                     Value::String(s) => assert_eq!(cells[k], s, "{path}"),
-                    Value::Bool(b) => assert_eq!(cells[k], b.to_string(), "{path}"),
+                    // TRUE/FALSE: what R's read.csv reads as logical.
+                    Value::Bool(b) => {
+                        assert_eq!(cells[k], if *b { "TRUE" } else { "FALSE" }, "{path}")
+                    }
                     _ => assert_eq!(cells[k], "", "{path}"),
                 }
                 k += 1;

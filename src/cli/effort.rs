@@ -17,6 +17,7 @@ use nidus::null::NullModel;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
+use super::numbers::num;
 use super::{csv_field, emit, parse_list, Format, LayoutArgs, List};
 
 #[derive(Args, Debug)]
@@ -243,19 +244,14 @@ fn csv_table(file: &str, r: &EffortResult) -> String {
     s
 }
 
-fn f(x: Option<f64>, digits: usize) -> String {
-    x.map_or("-".to_string(), |v| format!("{v:.digits$}"))
+fn f(x: Option<f64>) -> String {
+    x.map_or("-".to_string(), num)
 }
 
-fn band_text(b: &Band, digits: usize) -> String {
+fn band_text(b: &Band) -> String {
     match (b.mean, b.q025, b.q975) {
         (Some(m), Some(lo), Some(hi)) => {
-            format!(
-                "{} [{}, {}]",
-                f(Some(m), digits),
-                f(Some(lo), digits),
-                f(Some(hi), digits)
-            )
+            format!("{} [{}, {}]", f(Some(m)), f(Some(lo)), f(Some(hi)))
         }
         _ => "-".to_string(),
     }
@@ -263,16 +259,16 @@ fn band_text(b: &Band, digits: usize) -> String {
 
 fn richness_line(what: &str, r: &Richness) -> String {
     format!(
-        "  {what:<22} {:>6} seen, Chao1 {:.1} (se {:.1}{}), completeness {:.0} %\n",
+        "  {what:<22} {:>6} seen, Chao1 {} (se {}{}), completeness {} %\n",
         r.observed,
-        r.chao1,
-        r.se,
+        num(r.chao1),
+        num(r.se),
         if r.bias_corrected {
             ", bias-corrected form: no doubletons"
         } else {
             ""
         },
-        100.0 * r.completeness
+        num(100.0 * r.completeness)
     )
 }
 
@@ -296,8 +292,10 @@ fn text_report(file: &str, r: &EffortResult) -> String {
     s += &richness_line("row species", &r.row_species);
     s += &richness_line("column species", &r.col_species);
     s += &format!(
-        "  interactions seen once {}, twice {}; sample coverage 1 - f1/N = {:.3}\n",
-        r.interactions.singletons, r.interactions.doubletons, r.coverage
+        "  interactions seen once {}, twice {}; sample coverage 1 - f1/N = {}\n",
+        r.interactions.singletons,
+        r.interactions.doubletons,
+        num(r.coverage)
     );
     s += &format!(
         "\n  rarefaction: {} subsamples per depth without replacement, seed {}; species without a visit in a \
@@ -319,24 +317,24 @@ fn text_report(file: &str, r: &EffortResult) -> String {
     s.push('\n');
     for d in &r.depths {
         let mut line = format!(
-            "  {:>8} {:>5.0} {:>9.1} {:>22}",
+            "  {:>8} {:>5.0} {:>9} {:>22}",
             d.depth,
             100.0 * d.fraction,
-            d.expected_links,
-            band_text(&d.links, 1)
+            num(d.expected_links),
+            band_text(&d.links)
         );
         line += &format!(
             " {:>20} {:>20}",
-            band_text(&d.rows_observed, 1),
-            band_text(&d.cols_observed, 1)
+            band_text(&d.rows_observed),
+            band_text(&d.cols_observed)
         );
         for b in &d.indices {
-            line += &format!(" {:>24}", band_text(b, 2));
+            line += &format!(" {:>24}", band_text(b));
         }
         if let Some(n) = &d.null {
             line += &format!(
                 " {:>22} {:>8}",
-                band_text(&n.z, 2),
+                band_text(&n.z),
                 n.significant_share
                     .map_or("-".into(), |p| format!("{:.0} %", 100.0 * p))
             );
@@ -360,17 +358,17 @@ fn reading(r: &EffortResult) -> String {
         c.chao1
     );
     s += &format!(
-        "A further visit would show an interaction not yet seen with probability about {:.3} (f1/N).\n",
-        1.0 - r.coverage
+        "A further visit would show an interaction not yet seen with probability about {} (f1/N).\n",
+        num(1.0 - r.coverage)
     );
     if let [.., prev, last] = r.depths.as_slice() {
         let added = last.expected_links - prev.expected_links;
         let per = 100.0 * added / (last.depth - prev.depth) as f64;
         s += &format!(
-            "  - The last {} visits added {:.1} links on average ({:.2} per 100 visits): {}\n",
+            "  - The last {} visits added {} links on average ({} per 100 visits): {}\n",
             last.depth - prev.depth,
-            added,
-            per,
+            num(added),
+            num(per),
             if per < 1.0 {
                 "the link curve is flattening."
             } else {
@@ -387,34 +385,38 @@ fn reading(r: &EffortResult) -> String {
         let Some(full) = full else { continue };
         if k.name() == "spectral-weighted" {
             s += &format!(
-                "  - {}: {full:.2} at full effort; it is in units of visits and grows with them by \
+                "  - {}: {} at full effort; it is in units of visits and grows with them by \
                  construction, so compare it only between networks at the same depth.\n",
-                k.name()
+                k.name(),
+                num(full)
             );
             continue;
         }
         match r.levels_off_at(&key) {
             Some(d) if Some(d) == r.depths.first().map(|x| x.depth) => {
                 s += &format!(
-                    "  - {}: the full-effort value {full:.2} lies within the subsample range at every depth \
+                "  - {}: the full-effort value {} lies within the subsample range at every depth \
                      down to {d} visits: it does not hinge on effort over this range.\n",
-                    k.name()
-                )
+                k.name(),
+                num(full)
+            )
             }
             Some(d) if d < r.visits => {
                 s += &format!(
-                    "  - {}: the full-effort value {full:.2} lies within the subsample range from {d} visits \
+                "  - {}: the full-effort value {} lies within the subsample range from {d} visits \
                      ({:.0} % of the effort) on; below that the index still drifts with effort.\n",
-                    k.name(),
-                    100.0 * d as f64 / r.visits as f64
-                )
+                k.name(),
+                num(full),
+                100.0 * d as f64 / r.visits as f64
+            )
             }
             _ => {
                 s += &format!(
-                    "  - {}: the full-effort value {full:.2} lies outside the subsample range of the depth \
+                "  - {}: the full-effort value {} lies outside the subsample range of the depth \
                      just below it: the index still changes with effort.\n",
-                    k.name()
-                )
+                k.name(),
+                num(full)
+            )
             }
         }
     }

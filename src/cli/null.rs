@@ -278,9 +278,15 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
                 ways.push(w);
             }
         }
+        let rule = if run.stop_after.is_some() {
+            " (after a sequential stop: H / draws used)"
+        } else {
+            ""
+        };
         s += &format!(
-            "  direction: {}.\n  p: the chance that a null network is at least as nested as the observed one, \
-             (1 + #{{null draws at least as nested}}) / (draws + 1); a small p means more nested than the null model.\n",
+            "  direction: {}.\n  p: the share of networks at least as nested as the observed one, among the null draws \
+             and the observed network itself: (1 + #{{draws at least as nested}}) / (draws + 1){rule}; \
+             a small p means more nested than the null model produces.\n",
             ways.join("; ")
         );
         for (reason, names) in notes {

@@ -57,6 +57,19 @@ fn record(
             }
         }
     }
+    // Every family asked for has its entry: the reason, or null when
+    // computed (the same keys, and CSV columns, in every record).
+    let reasons: Map<String, Value> = families
+        .iter()
+        .map(|f| {
+            let reason = m
+                .not_computed
+                .get(f.key())
+                .map_or(Value::Null, |r| r.as_str().into());
+            (f.key().to_string(), reason)
+        })
+        .collect();
+    o.insert("not_computed".into(), Value::Object(reasons));
     o.insert("restarts".into(), settings.restarts.into());
     o.insert("packing".into(), settings.packing.into());
     o.insert("dropped_rows".into(), dropped_rows.into());
@@ -95,13 +108,7 @@ impl Table {
                 Network::from_array(array![[3.0, 2.0, 1.0], [2.0, 1.0, 0.0], [1.0, 0.0, 0.0]])?;
             let m = measure(&net, opts)?;
             let labels = (net.row_labels(), net.col_labels());
-            let mut template = record("", &m, &families, labels, settings, (0, 0));
-            // Every family asked for may be not computed: a column each.
-            let reasons: Map<String, Value> = families
-                .iter()
-                .map(|f| (f.key().to_string(), Value::from("")))
-                .collect();
-            template["not_computed"] = Value::Object(reasons);
+            let template = record("", &m, &families, labels, settings, (0, 0));
             Some(FlatTable::new(template))
         } else {
             None

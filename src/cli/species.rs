@@ -4,6 +4,7 @@ use std::io;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
+use super::numbers::num;
 use super::{csv_field, emit, input_name, read_input, Format, LayoutArgs};
 use clap::Args;
 use nidus::analyses::species::{
@@ -128,9 +129,9 @@ fn csv_line(file: &str, s: &SpeciesRecord) -> String {
     fields.join(",") + "\n"
 }
 
-fn fmt_opt(x: Option<f64>, width: usize, digits: usize) -> String {
+fn fmt_opt(x: Option<f64>, width: usize) -> String {
     match x {
-        Some(v) => format!("{v:>width$.digits$}"),
+        Some(v) => format!("{:>width$}", num(v)),
         None => format!("{:>width$}", "undefined"),
     }
 }
@@ -154,18 +155,18 @@ fn rows(list: &[&SpeciesRecord], wnodf: bool) -> String {
     );
     for s in list {
         let w = if wnodf {
-            format!(" {}", fmt_opt(s.wnodf_contribution, 11, 2))
+            format!(" {}", fmt_opt(s.wnodf_contribution, 11))
         } else {
             String::new()
         };
         t += &format!(
-            "  {:<4} {:<label_w$} {:>6} {} {} {:>15.1}{w}  {}\n",
+            "  {:<4} {:<label_w$} {:>6} {} {} {:>15}{w}  {}\n",
             s.side.name(),
             s.label,
             s.degree,
-            fmt_opt(s.contribution, 12, 2),
-            fmt_opt(s.leave_one_out, 13, 2),
-            s.idiosyncratic_temperature,
+            fmt_opt(s.contribution, 12),
+            fmt_opt(s.leave_one_out, 13),
+            num(s.idiosyncratic_temperature),
             s.role.name()
         );
     }
@@ -175,8 +176,9 @@ fn rows(list: &[&SpeciesRecord], wnodf: bool) -> String {
 fn text_report(file: &str, a: &SpeciesAnalysis, m: usize, n: usize, weighted: bool) -> String {
     let o = &a.options;
     let mut t = format!(
-        "{file}: {m} rows x {n} columns; NODF {:.2}, packed temperature {:.2}\n",
-        a.nodf, a.temperature
+        "{file}: {m} rows x {n} columns; NODF {}, packed temperature {}\n",
+        num(a.nodf),
+        num(a.temperature)
     );
     t += &format!(
         "contributions: {} re-draws per species, model {}, seed {}; temperature packing with {} random start(s)\n",
