@@ -1,4 +1,4 @@
-//! Significance of an index against null draws (METHODS.md §7).
+//! Significance of an index against null draws (docs/methods.md §7).
 //!
 //! For an index `S` with observed value `s` and null values `s_1..s_R`:
 //! mean, standard deviation (divisor `R - 1`), `z = (s - mean) / sd` (absent
@@ -219,7 +219,7 @@ mod tests {
         assert_eq!(quantile_sorted(&x, 1.0), 5.0);
     }
 
-    /// METHODS.md §7 formulas worked by hand on a small sample.
+    /// docs/methods.md §7 formulas worked by hand on a small sample.
     #[test]
     fn summary_by_hand() {
         let v = [2.0, 4.0, 4.0, 6.0];

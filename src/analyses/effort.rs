@@ -1,5 +1,5 @@
 //! Sampling effort: is a visit-count network sampled enough for its
-//! nestedness to mean anything? (METHODS.md §9.)
+//! nestedness to mean anything? (docs/methods.md §9.)
 //!
 //! A visit-count network is a sample of `N` recorded visits. This module
 //! asks what the network would have looked like with fewer visits:

@@ -12,7 +12,7 @@
 //!   three parts, usable alone.
 //!
 //! Definitions, defaults and sources: `docs/methods.md`, section "Species
-//! roles"; METHODS.md §8.
+//! roles"; docs/methods.md §8.
 
 use std::fmt;
 use std::str::FromStr;
@@ -641,7 +641,7 @@ pub fn leave_one_out(b: &BitMatrix, side: Side, index: usize, observed: f64) -> 
 /// order, and the packed `T` itself.
 ///
 /// With `u_ij` the unexpectedness of cell `(i, j)` at its packed position
-/// (METHODS.md §4), row `i` of an `m x n` matrix scores
+/// (docs/methods.md §4), row `i` of an `m x n` matrix scores
 /// `T_i = 100 * sum_j u_ij / (n U_max)` and column `j` scores
 /// `T_j = 100 * sum_i u_ij / (m U_max)`, so that the mean over rows and
 /// the mean over columns both equal `T = 100 * sum u / (m n U_max)`. A row

@@ -1,6 +1,6 @@
 //! Discrepancy (Brualdi & Sanderson 1999, Oecologia 119:256-264;
 //! formalised by Brualdi & Shen 1999, Electron. J. Combin. 6 #R15;
-//! METHODS.md §5).
+//! docs/methods.md §5).
 //!
 //! Columns go by decreasing degree. A perfectly nested matrix has every row
 //! `i` filling the leftmost `d_i` of those columns; the discrepancy counts
@@ -124,7 +124,7 @@ pub struct DiscrepancyTies {
     pub minimum: Option<usize>,
 }
 
-/// Discrepancy in both orientations (METHODS.md §5).
+/// Discrepancy in both orientations (docs/methods.md §5).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Discrepancy {
@@ -349,7 +349,7 @@ fn ties(v: (usize, Result<usize>)) -> Result<DiscrepancyTies> {
 }
 
 /// Discrepancy of a network's binary view in both orientations, each with
-/// ties in input order and tie-minimised (METHODS.md §5).
+/// ties in input order and tie-minimised (docs/methods.md §5).
 ///
 /// `rows`: ones shifted within rows, columns by decreasing degree (the
 /// reading of Brualdi & Sanderson 1999; `rows.stable` equals
@@ -441,7 +441,7 @@ mod tests {
     use rand::{Rng, SeedableRng};
     use rand_xoshiro::Xoshiro256PlusPlus;
 
-    /// Brute count from METHODS.md §5: sort the columns by decreasing degree
+    /// Brute count from docs/methods.md §5: sort the columns by decreasing degree
     /// (input order among ties), then count, row by row, the ones that are
     /// not among the row's first d_i sorted columns.
     fn brute(a: &[Vec<bool>]) -> usize {
@@ -517,7 +517,7 @@ mod tests {
         assert_eq!(discrepancy_of_bits(&b), 1);
     }
 
-    /// Worked by hand from the definition (METHODS.md §5): tie order and
+    /// Worked by hand from the definition (docs/methods.md §5): tie order and
     /// transposition change the count.
     #[test]
     fn ties_and_transposition_by_hand() {
@@ -589,7 +589,7 @@ mod tests {
         }
     }
 
-    /// Misplaced ones with the columns in `order` (METHODS.md §5).
+    /// Misplaced ones with the columns in `order` (docs/methods.md §5).
     fn count_in_order(a: &[Vec<bool>], order: &[usize]) -> usize {
         a.iter()
             .map(|row| {

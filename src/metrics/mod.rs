@@ -67,7 +67,7 @@ impl FromStr for Order {
 }
 
 /// Positions `0..degrees.len()` by decreasing degree, ties in input order
-/// (a stable sort), the "sorted" convention of METHODS.md.
+/// (a stable sort), the "sorted" convention of docs/methods.md.
 pub fn degree_order(degrees: &[usize]) -> Vec<usize> {
     let mut idx: Vec<usize> = (0..degrees.len()).collect();
     idx.sort_by(|&a, &b| degrees[b].cmp(&degrees[a]));

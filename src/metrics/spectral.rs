@@ -28,7 +28,7 @@
 //! last step; or when the Krylov space is invariant (`beta_k` negligible).
 //! On the singular value, `sqrt(theta)`, the tests saw relative errors of at
 //! most `4e-12` against nalgebra's SVD and closed forms, inside the `1e-10`
-//! that METHODS.md §3 asks. Two equal top singular values (say two identical
+//! that docs/methods.md §3 asks. Two equal top singular values (say two identical
 //! disconnected blocks) do not slow it: the Krylov space of one start vector
 //! meets their common eigenspace in a single direction, so the Lanczos
 //! iteration sees one eigenvalue and the gap to the next distinct one.

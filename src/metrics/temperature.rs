@@ -1,7 +1,7 @@
 //! Matrix temperature (Atmar & Patterson 1993, Oecologia 96:373-382) with
 //! the isocline family of Rodriguez-Girones & Santamaria (2006, J. Biogeogr.
 //! 33:924-935), in the given, degree-sorted and packed orders
-//! (METHODS.md §4).
+//! (docs/methods.md §4).
 //!
 //! # Geometry
 //! The `m x n` matrix sits in the unit square, rows top to bottom, columns

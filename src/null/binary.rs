@@ -1,4 +1,4 @@
-//! Independent-draw binary null models (METHODS.md §6): `equiprobable`,
+//! Independent-draw binary null models (docs/methods.md §6): `equiprobable`,
 //! `proportional`, `fixed-rows`, `fixed-columns`. Each reads the binary view
 //! of the network.
 

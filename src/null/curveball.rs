@@ -50,7 +50,7 @@ impl CurveballChain {
     }
 
     /// The default number of trades per independent draw, `5 * max(m, n)`
-    /// (METHODS.md §6).
+    /// (docs/methods.md §6).
     pub fn default_burn_in(m: usize, n: usize) -> usize {
         5 * m.max(n)
     }

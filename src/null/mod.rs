@@ -1,5 +1,5 @@
 //! Null models: samplers that turn an observed network and a random source
-//! into a new matrix keeping some of the observed constraints (METHODS.md §6).
+//! into a new matrix keeping some of the observed constraints (docs/methods.md §6).
 //!
 //! * Binary models read the binary view of the network (a weighted network
 //!   is treated as its pattern of non-zero cells) and return a [`BitMatrix`]:
@@ -185,7 +185,7 @@ impl FromStr for NullModel {
 pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
     /// `5 * max(m, n)`. Values below that default are allowed (for
-    /// experiments) but METHODS.md asks for at least the default.
+    /// experiments), but the default is the recommended minimum (docs/methods.md §6).
     pub burn_in: Option<usize>,
 }
 

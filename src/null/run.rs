@@ -1,4 +1,4 @@
-//! Seeded, parallel null-model tests (METHODS.md §7): [`run_test`] evaluates
+//! Seeded, parallel null-model tests (docs/methods.md §7): [`run_test`] evaluates
 //! any statistics on many draws of any sampler and keeps the values in draw
 //! order; [`run_null`] is its convenience layer for the built-in model and
 //! index names.

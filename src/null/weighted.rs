@@ -1,4 +1,4 @@
-//! Weighted permutation null models (METHODS.md §6): `shuffle-cells` and
+//! Weighted permutation null models (docs/methods.md §6): `shuffle-cells` and
 //! `shuffle-weights`.
 
 use ndarray::Array2;

@@ -2,7 +2,7 @@
 //!
 //! Given a cost table `c` with `r <= k` rows and `k` columns, find distinct
 //! columns `col(0), ..., col(r-1)` minimising `sum_i c[i][col(i)]`. Used by
-//! the temperature packing (METHODS.md §4), where rows are data rows and
+//! the temperature packing (docs/methods.md §4), where rows are data rows and
 //! columns are positions.
 //!
 //! Method: Jonker & Volgenant (1987, Computing 38:325-340): column

@@ -1,5 +1,5 @@
 //! Special functions needed by the indices: the Gamma function and its
-//! logarithm (for the temperature isocline, METHODS.md §4).
+//! logarithm (for the temperature isocline, docs/methods.md §4).
 //!
 //! Both use the Lanczos approximation with `g = 7` and nine coefficients
 //! (Lanczos 1964, SIAM J. Numer. Anal. B 1:86-96; the coefficient set is the

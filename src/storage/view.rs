@@ -305,7 +305,7 @@ mod tests {
 
     /// Every implementation reports the same shape, degrees, links, bits
     /// and compressed rows as the validated network (definitions of
-    /// METHODS.md §0: a link is a non-zero cell).
+    /// docs/methods.md §0: a link is a non-zero cell).
     #[test]
     fn views_agree() {
         let w = array![[3u32, 0, 1, 0], [0, 0, 2, 0], [1, 1, 1, 5]];

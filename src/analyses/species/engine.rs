@@ -4,7 +4,7 @@
 //! # What is kept and what is updated
 //! NODF's row part is `sum over rows l with d_l > 0 of 100 ov_l / d_l`,
 //! where `ov_l` sums the overlaps of row `l` with every row of larger degree
-//! (METHODS.md §1); the column part likewise. The engine keeps, for both
+//! (docs/methods.md §1); the column part likewise. The engine keeps, for both
 //! sides, the degrees, the integer sums `ov`, the quotients
 //! `100 ov_l / d_l`, the pairwise overlap table of each side (when it fits,
 //! see [`OVERLAP_TABLE_LIMIT`]) and each side's members grouped by degree.

@@ -89,7 +89,7 @@ mod tests {
         assert_eq!(n.rows, Some(75.0));
     }
 
-    /// Two rows of equal degree score 0 however much they share (METHODS.md §1).
+    /// Two rows of equal degree score 0 however much they share (docs/methods.md §1).
     #[test]
     fn equal_degrees_score_zero() {
         let net = Network::from_array(array![[1, 1, 0], [1, 1, 0]]).unwrap();

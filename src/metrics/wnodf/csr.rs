@@ -218,7 +218,7 @@ mod tests {
     }
 
     /// The Fenwick paths equal the direct pair loops (both written from
-    /// METHODS.md §1-2) on seeded random matrices with long columns, for the
+    /// docs/methods.md §1-2) on seeded random matrices with long columns, for the
     /// internal kernels that the public tests cannot force.
     #[test]
     fn fenwick_paths_equal_pair_loops() {

@@ -52,7 +52,7 @@ mod tests {
     use crate::Network;
     use ndarray::array;
 
-    /// METHODS.md §2: a binary matrix has WNODF 0.
+    /// docs/methods.md §2: a binary matrix has WNODF 0.
     #[test]
     fn binary_is_zero() {
         let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
