@@ -351,3 +351,21 @@ fn old_option_spellings_are_aliases() {
         "{help}"
     );
 }
+
+/// `--help` describes the layouts and null models and points to
+/// docs/methods.md; `null --help` says what p means.
+#[test]
+fn help_names_layouts_models_and_the_methods_file() {
+    let help = ok(&nidus(&["--help"], b""));
+    for word in [
+        "matrix",
+        "edges",
+        "fixed-both",
+        "shuffle-weights",
+        "docs/methods.md",
+    ] {
+        assert!(help.contains(word), "{word}: {help}");
+    }
+    let help = ok(&nidus(&["null", "--help"], b""));
+    assert!(help.contains("more-nested direction") && help.contains("docs/methods.md"));
+}

@@ -11,8 +11,25 @@ use nidus::{Error, Order};
 
 use super::report::Table;
 use super::{
-    emit, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
+    emit, input_name, parse_list, print_read_notes, read_input_unprinted, report_failure, Format,
+    LayoutArgs, List, EXIT_INPUT,
 };
+
+/// A spinner on stderr naming the step under way (reading a file,
+/// computing its indices), for steps that can take seconds (big files,
+/// temperature packing); hidden when stderr is not a terminal.
+fn spinner() -> indicatif::ProgressBar {
+    use std::io::IsTerminal;
+    if !io::stderr().is_terminal() {
+        return indicatif::ProgressBar::hidden();
+    }
+    let bar = indicatif::ProgressBar::new_spinner();
+    if let Ok(style) = indicatif::ProgressStyle::with_template("{spinner} {msg} ({elapsed})") {
+        bar.set_style(style);
+    }
+    bar.enable_steady_tick(std::time::Duration::from_millis(120));
+    bar
+}
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
@@ -48,7 +65,7 @@ pub struct MeasureArgs {
 fn explicit_failure(m: &Measurement, asked: &[Family]) -> Option<Error> {
     asked
         .iter()
-        .filter(|f| !(**f == Family::Wnodf && !m.weighted))
+        .filter(|f| **f != Family::Wnodf || m.weighted)
         .find_map(|f| {
             m.not_computed.get(f.key()).map(|reason| {
                 let advice = if *f == Family::Temperature {
@@ -83,15 +100,30 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     }
     for file in &args.files {
         let shown = input_name(file);
-        let result = read_input(file, &read).and_then(|read| {
+        let bar = spinner();
+        bar.set_message(format!("{shown}: reading"));
+        let result = read_input_unprinted(file, &read).and_then(|read| {
+            bar.suspend(|| print_read_notes(&shown, &read.report));
             let dropped = read.report.dropped();
             let net = read.network;
+            let slow = if opts.wants(Family::Temperature) && !args.no_packing {
+                " (temperature packing is the slow step)"
+            } else {
+                ""
+            };
+            bar.set_message(format!(
+                "{shown}: computing indices of {} x {}{slow}",
+                net.nrows(),
+                net.ncols()
+            ));
             let m = measure(&net, &opts)?;
+            bar.finish_and_clear();
             if let Some(e) = explicit_failure(&m, &explicit) {
                 return Err(e);
             }
             Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels()), dropped))
         });
+        bar.finish_and_clear();
         match result {
             Ok(text) => {
                 if !emit(&mut out, &text) {

@@ -28,6 +28,7 @@ pub const EXIT_INPUT: u8 = 2;
     name = "nidus",
     version,
     about = "Measure how nested bipartite ecological networks are, and test it against null models",
+    after_help = AFTER_HELP,
     propagate_version = true
 )]
 struct Cli {
@@ -38,11 +39,44 @@ struct Cli {
     command: Command,
 }
 
+/// The end of `nidus --help`: the two file layouts, the null models in
+/// one line each, and where the methods are written down.
+const AFTER_HELP: &str = "\
+File layouts (--layout):
+  matrix  a table: first line the column species, then one line per row species,
+          its label and one value per column (0 or empty: no link; counts allowed)
+  edges   one interaction per line: row species, column species, optional weight
+          (default 1; repeated pairs are summed); a header line is detected
+Delimiters (comma, tab, semicolon) are detected; species without links are dropped
+(--keep-empty keeps them), and every such decision is reported on stderr.
+
+Null models (nidus null --model):
+  equiprobable     the number of links, placed uniformly
+  proportional     link probability from the two species' degrees
+  fixed-rows       each row's degree
+  fixed-columns    each column's degree
+  fixed-both       every row and column degree (curveball chain)
+  shuffle-cells    all cell values, zeros included, permuted
+  shuffle-weights  the links kept, their weights permuted
+  fixed-totals     integer row and column totals (visit counts)
+
+Methods, formulas and citations: docs/methods.md in the nidus repository;
+usage and output keys: README.md.";
+
+/// The end of `nidus null --help`: how to read the result.
+const NULL_AFTER_HELP: &str = "\
+p is the p-value in the more-nested direction (higher NODF, WNODF, spectral radius;
+lower temperature, discrepancy): (1 + #{draws at least as nested}) / (draws + 1).
+The report states the direction in words; JSON and CSV keep p_greater and p_less too.
+A model that cannot move an index (every draw equals the observed value) reports
+'no test' and why. Definitions: docs/methods.md (section 6, null models; 7, tests).";
+
 #[derive(Subcommand, Debug)]
 enum Command {
     /// Compute nestedness indices of one or more network files.
     Measure(measure::MeasureArgs),
     /// Test indices of one or more files against null models.
+    #[command(after_help = NULL_AFTER_HELP)]
     Null(null::NullArgs),
     /// Merge the saved draws of a split `null` run and print its result.
     Merge(merge::MergeArgs),
@@ -181,6 +215,14 @@ pub fn check_stdin_once(files: &[std::path::PathBuf]) -> nidus::Result<()> {
 /// stderr. When a matrix read fails on a file that looks like an edge list,
 /// the error gains the advice to use `--layout edges`.
 pub fn read_input(file: &Path, read: &ReadOptions) -> nidus::Result<ReadOutcome> {
+    let outcome = read_input_unprinted(file, read)?;
+    print_read_notes(&input_name(file), &outcome.report);
+    Ok(outcome)
+}
+
+/// [`read_input`] without printing the reader's notes (the caller prints
+/// them with [`print_read_notes`], for example around a progress line).
+pub fn read_input_unprinted(file: &Path, read: &ReadOptions) -> nidus::Result<ReadOutcome> {
     let name = input_name(file);
     let bytes = if file.as_os_str() == "-" {
         let mut b = Vec::new();
@@ -198,10 +240,7 @@ pub fn read_input(file: &Path, read: &ReadOptions) -> nidus::Result<ReadOutcome>
         })?
     };
     match nidus::io::parse_network_reported(&bytes, Path::new(&name), read) {
-        Ok(outcome) => {
-            print_read_notes(&name, &outcome.report);
-            Ok(outcome)
-        }
+        Ok(outcome) => Ok(outcome),
         Err(e @ (nidus::Error::Parse { .. } | nidus::Error::EmptyNetwork(_)))
             if read.layout == Layout::Matrix && nidus::io::looks_like_edge_list(&bytes) =>
         {
