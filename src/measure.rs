@@ -263,3 +263,30 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         not_computed,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use ndarray::array;
+
+    /// One index that cannot be computed does not sink the others: NODF of
+    /// a 1 x 1 network has no pairs (Almeida-Neto et al. 2008 average over
+    /// pairs), while its spectral radius is its one singular value, 1
+    /// (analytic), and its discrepancy 0 (Brualdi & Sanderson 1999: a
+    /// single link is perfectly nested).
+    #[test]
+    fn a_failing_family_is_recorded_and_the_rest_computed() {
+        let net = Network::from_array(array![[1.0]]).unwrap();
+        let m = measure(&net, &MeasureOptions::default()).unwrap();
+        assert!(m.nodf.is_none());
+        assert!(m.not_computed["nodf"].contains("no pairs"));
+        assert_eq!(m.spectral_radius.unwrap().binary, 1.0);
+        assert_eq!(m.discrepancy.unwrap().rows.stable, 0);
+        // WNODF of a binary network is recorded as not computed too.
+        assert!(m.not_computed.contains_key("wnodf"));
+        // Everything computed: nothing recorded.
+        let net = Network::from_array(array![[2.0, 1.0], [1.0, 0.0]]).unwrap();
+        let m = measure(&net, &MeasureOptions::default()).unwrap();
+        assert!(m.not_computed.is_empty(), "{:?}", m.not_computed);
+    }
+}

@@ -73,7 +73,7 @@ fn progress_bar(total: usize, label: &str) -> ProgressBar {
     }
     let bar = ProgressBar::new(total as u64);
     if let Ok(style) =
-        ProgressStyle::with_template("{msg} [{bar:30}] {pos}/{len} subsamples ({eta})")
+        ProgressStyle::with_template("{msg} [{bar:30}] {pos}/{len} subsamples, eta {eta}")
     {
         bar.set_style(style.progress_chars("=> "));
     }
@@ -110,7 +110,7 @@ pub fn run(args: EffortArgs) -> nidus::Result<ExitCode> {
     let text = match args.format {
         Format::Json => json_lines(&shown, &result),
         Format::Csv => csv_table(&shown, &result),
-        Format::Text => text_report(&shown, &result),
+        Format::Text => text_report(&shown, &result, args.order),
     };
     emit(&mut io::stdout().lock(), &text);
     Ok(ExitCode::SUCCESS)
@@ -272,7 +272,7 @@ fn richness_line(what: &str, r: &Richness) -> String {
     )
 }
 
-fn text_report(file: &str, r: &EffortResult) -> String {
+fn text_report(file: &str, r: &EffortResult, order: Order) -> String {
     let mut s = format!(
         "{file}\n  {} visits, {} links between {} row and {} column species{}\n",
         r.visits,
@@ -302,6 +302,7 @@ fn text_report(file: &str, r: &EffortResult) -> String {
          subsample are dropped before its indices are computed. Cells: mean [2.5 %, 97.5 %] over the subsamples.\n",
         r.draws, r.seed
     );
+    s += &format!("  order {} (for NODF and WNODF)\n", order.name());
     let mut head = format!(
         "  {:>8} {:>5} {:>9} {:>22}",
         "visits", "%", "E[links]", "links"
