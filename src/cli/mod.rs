@@ -8,6 +8,7 @@ use std::io::{self, Write};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use nidus::io::{EdgeHeader, Layout, ReadOptions};
 
+mod assess;
 mod measure;
 mod merge;
 mod null;
@@ -42,6 +43,8 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Type I error and power of each index x null model on generated networks.
+    Assess(assess::AssessArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -77,6 +80,7 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Assess(args) => assess::run(args),
     };
     match result {
         Ok(code) => code,
