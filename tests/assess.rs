@@ -492,6 +492,12 @@ fn cli_refuses_bad_settings() {
         vec!["--scenario", "nested:1.2"],
         vec!["--alpha", "1.5"],
         vec!["--networks", "0"],
+        vec![
+            "--networks",
+            "1000000",
+            "--index",
+            "nodf,spectral,discrepancy",
+        ],
         vec!["--shard", "1/2"],
         vec!["--like", "data-demo/meadow_visits.csv"],
     ] {

@@ -112,6 +112,10 @@ pub const MAX_CELLS: usize = 1 << 24;
 /// test (each test keeps its `D` values in memory).
 pub const MAX_COUNT: usize = 1_000_000;
 
+/// Largest number of outcomes (scenarios x networks x models x indices) an
+/// assessment keeps in memory (64 bytes each, so at most 256 MB).
+pub const MAX_OUTCOMES: usize = 4_000_000;
+
 /// A way of generating test networks (see the module documentation for the
 /// exact generators).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -672,6 +676,18 @@ impl AssessConfig {
         }
         if self.threads == Some(0) {
             return Err(Error::InvalidArgument("threads must be at least 1".into()));
+        }
+        let outcomes = [self.scenarios.len(), self.models.len(), self.indices.len()]
+            .iter()
+            .try_fold(self.networks, |a, &b| a.checked_mul(b));
+        if outcomes.is_none_or(|n| n > MAX_OUTCOMES) {
+            return Err(Error::InvalidArgument(format!(
+                "{} scenarios x {} networks x {} models x {} indices: more than {MAX_OUTCOMES} test outcomes to keep; split the scenarios or lower --networks",
+                self.scenarios.len(),
+                self.networks,
+                self.models.len(),
+                self.indices.len()
+            )));
         }
         Ok(())
     }
