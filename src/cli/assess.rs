@@ -13,12 +13,11 @@ use nidus::analyses::assess::{
     run_assess, AssessConfig, AssessRun, RateRow, Scenario, Shape, LOW_POWER,
 };
 use nidus::index::IndexKind;
-use nidus::io::read_network;
 use nidus::null::{NullModel, NullOptions, Shard};
 use nidus::Error;
 use serde_json::{Map, Value};
 
-use super::{csv_field, emit, parse_list, Format, LayoutArgs, List};
+use super::{csv_field, emit, input_name, parse_list, read_input, Format, LayoutArgs, List};
 
 #[derive(Args, Debug)]
 pub struct AssessArgs {
@@ -301,8 +300,8 @@ pub fn run(args: AssessArgs) -> nidus::Result<ExitCode> {
     }
     let shape = match (&args.like, args.rows, args.cols, args.fill) {
         (Some(file), ..) => {
-            let net = read_network(file, &args.input.read_options())?;
-            Shape::like(&net, &file.display().to_string())?
+            let net = read_input(file, &args.input.read_options())?.network;
+            Shape::like(&net, &input_name(file))?
         }
         (None, Some(m), Some(n), Some(f)) => {
             Shape::synthetic(m, n, f, args.heterogeneity.unwrap_or(1.0))?

@@ -9,18 +9,20 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::index::IndexKind;
-use nidus::io::read_network;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
 use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
 pub use super::emit;
-use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
+    EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct NullArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Null models, comma-separated: equiprobable, proportional, fixed-rows, fixed-columns,
@@ -244,6 +246,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         )));
     }
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let mut saved = match &args.save_draws {
         Some(p) => Some((
             p.clone(),
@@ -265,9 +268,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     }
     let mut failed = 0usize;
     'files: for file in &args.files {
-        let shown = file.display().to_string();
-        let net = match read_network(file, &read) {
-            Ok(n) => n,
+        let shown = input_name(file);
+        let net = match read_input(file, &read) {
+            Ok(r) => r.network,
             Err(e) => {
                 failed += 1;
                 report_failure(&shown, &e);
