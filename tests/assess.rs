@@ -241,7 +241,7 @@ fn exact_models_are_calibrated_on_random_networks() {
     let c = AssessConfig::new(
         shape,
         vec![Scenario::Random],
-        vec![IndexKind::Nodf],
+        vec![IndexKind::named("nodf").unwrap()],
         models,
         200,
         199,
@@ -272,7 +272,7 @@ fn equiprobable_is_liberal_on_heterogeneous_degrees() {
     let c = AssessConfig::new(
         shape,
         vec![Scenario::Degrees],
-        vec![IndexKind::Nodf],
+        vec![IndexKind::named("nodf").unwrap()],
         vec![NullModel::Equiprobable, NullModel::FixedBoth],
         150,
         99,
@@ -301,15 +301,23 @@ fn power_grows_with_planted_nestedness() {
     let c = AssessConfig::new(
         shape,
         s.iter().map(|&x| Scenario::Nested(x)).collect(),
-        vec![IndexKind::Nodf],
+        vec![IndexKind::named("nodf").unwrap()],
         vec![NullModel::Equiprobable, NullModel::FixedBoth],
         100,
         99,
         13,
     );
     let rows = rates(&c);
-    let eq = power_curve(&rows, IndexKind::Nodf, NullModel::Equiprobable);
-    let fb = power_curve(&rows, IndexKind::Nodf, NullModel::FixedBoth);
+    let eq = power_curve(
+        &rows,
+        IndexKind::named("nodf").unwrap(),
+        NullModel::Equiprobable,
+    );
+    let fb = power_curve(
+        &rows,
+        IndexKind::named("nodf").unwrap(),
+        NullModel::FixedBoth,
+    );
     for (a, b) in eq.iter().zip(&fb) {
         eprintln!(
             "s = {}: equiprobable {:.2} [{:.2}, {:.2}], fixed-both {:.2} [{:.2}, {:.2}]",
@@ -340,7 +348,10 @@ fn threads_and_shards_give_the_same_result() {
     let mut c = AssessConfig::new(
         shape,
         vec![Scenario::Random, Scenario::Degrees, Scenario::Nested(0.5)],
-        vec![IndexKind::Nodf, IndexKind::TemperatureSorted],
+        vec![
+            IndexKind::named("nodf").unwrap(),
+            IndexKind::named("temperature-sorted").unwrap(),
+        ],
         vec![NullModel::Equiprobable, NullModel::FixedBoth],
         10,
         29,

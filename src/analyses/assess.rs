@@ -64,7 +64,7 @@
 //! use nidus::{index::IndexKind, null::NullModel};
 //! let shape = Shape::synthetic(12, 12, 0.3, 1.0).unwrap();
 //! let mut config = AssessConfig::new(shape, vec![Scenario::Nested(1.0)],
-//!     vec![IndexKind::Nodf], vec![NullModel::Equiprobable, NullModel::FixedBoth], 5, 49, 7);
+//!     vec![IndexKind::named("nodf").unwrap()], vec![NullModel::Equiprobable, NullModel::FixedBoth], 5, 49, 7);
 //! let rows = run_assess(&config, &|_| {}).unwrap().summarise().unwrap();
 //! assert_eq!(rows[0].rejections, 5); // a perfect staircase beats random fills
 //! assert_eq!(rows[1].rejections, 0); // and is the only matrix with its margins
@@ -871,9 +871,9 @@ pub struct RatePoint {
 /// use nidus::{index::IndexKind, null::NullModel};
 /// let c = AssessConfig::new(Shape::synthetic(10, 10, 0.3, 1.0).unwrap(),
 ///     vec![Scenario::Nested(1.0), Scenario::Random, Scenario::Nested(0.0)],
-///     vec![IndexKind::Nodf], vec![NullModel::Equiprobable], 4, 19, 1);
+///     vec![IndexKind::named("nodf").unwrap()], vec![NullModel::Equiprobable], 4, 19, 1);
 /// let rows = run_assess(&c, &|_| {}).unwrap().summarise().unwrap();
-/// let curve = power_curve(&rows, IndexKind::Nodf, NullModel::Equiprobable);
+/// let curve = power_curve(&rows, IndexKind::named("nodf").unwrap(), NullModel::Equiprobable);
 /// assert_eq!(curve.iter().map(|p| p.strength).collect::<Vec<_>>(), vec![0.0, 1.0]);
 /// assert!(curve.iter().all(|p| p.low <= p.rate && p.rate <= p.high));
 /// ```
@@ -914,7 +914,7 @@ pub fn power_curve(rows: &[RateRow], index: IndexKind, model: NullModel) -> Vec<
 /// use nidus::analyses::assess::{run_assess, AssessConfig, Scenario, Shape};
 /// use nidus::{index::IndexKind, null::NullModel};
 /// let c = AssessConfig::new(Shape::synthetic(10, 10, 0.3, 1.0).unwrap(),
-///     vec![Scenario::Random], vec![IndexKind::Nodf, IndexKind::Discrepancy],
+///     vec![Scenario::Random], vec![IndexKind::named("nodf").unwrap(), IndexKind::named("discrepancy").unwrap()],
 ///     vec![NullModel::FixedBoth], 3, 19, 1);
 /// let run = run_assess(&c, &|_| {}).unwrap();
 /// assert_eq!(run.outcomes.len(), 3 * 2); // networks x indices
@@ -1368,7 +1368,7 @@ pub fn parse_part(text: &str, source: &Path) -> Result<AssessRun> {
 /// use nidus::analyses::assess::{merge_parts, run_assess, AssessConfig, Scenario, Shape};
 /// use nidus::{index::IndexKind, null::{NullModel, Shard}};
 /// let shape = Shape::synthetic(8, 8, 0.4, 1.0).unwrap();
-/// let mut c = AssessConfig::new(shape, vec![Scenario::Random], vec![IndexKind::Nodf],
+/// let mut c = AssessConfig::new(shape, vec![Scenario::Random], vec![IndexKind::named("nodf").unwrap()],
 ///     vec![NullModel::Equiprobable], 6, 19, 3);
 /// let whole = run_assess(&c, &|_| {}).unwrap().summarise().unwrap();
 /// let parts: Vec<_> = (1..=2).map(|i| {
