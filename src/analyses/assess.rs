@@ -79,7 +79,6 @@ use ndarray::Array2;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
@@ -199,7 +198,8 @@ impl FromStr for Scenario {
     }
 }
 
-impl Serialize for Scenario {
+#[cfg(feature = "serde")]
+impl serde::Serialize for Scenario {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         s.serialize_str(&self.name())
     }
@@ -724,7 +724,8 @@ impl AssessConfig {
 }
 
 /// Every setting of an assessment, recorded in its output and its part files.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct AssessSettings {
     /// nidus version that ran it.
     pub version: String,
@@ -761,7 +762,8 @@ pub struct AssessSettings {
 }
 
 /// The test of one network with one index against one model.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Outcome {
     /// Position of the scenario in [`AssessSettings::scenarios`].
     pub scenario: usize,
@@ -780,7 +782,8 @@ pub struct Outcome {
 }
 
 /// The outcomes of an assessment, or of one shard of it.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct AssessRun {
     /// Settings.
     pub settings: AssessSettings,
@@ -791,8 +794,9 @@ pub struct AssessRun {
 }
 
 /// What a rejection rate says.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "kebab-case")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "kebab-case"))]
 pub enum Verdict {
     /// Type I error: the whole 95 % interval lies above alpha.
     TooLiberal,
@@ -820,7 +824,8 @@ impl Verdict {
 }
 
 /// The rejection rate of one (scenario, index, model).
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct RateRow {
     /// Scenario.
     pub scenario: Scenario,
@@ -851,7 +856,8 @@ pub struct RateRow {
 }
 
 /// One point of a rejection-rate curve: plain numbers for a figure.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct RatePoint {
     /// Planted strength `s`.
     pub strength: f64,

@@ -13,7 +13,7 @@ use nidus::analyses::assess::{
     run_assess, AssessConfig, AssessRun, RateRow, Scenario, Shape, LOW_POWER,
 };
 use nidus::index::IndexKind;
-use nidus::null::{NullModel, NullOptions, Shard};
+use nidus::null::{NullModel, Shard};
 use nidus::Error;
 use serde_json::{Map, Value};
 
@@ -323,9 +323,7 @@ pub fn run(args: AssessArgs) -> nidus::Result<ExitCode> {
     );
     config.alpha = args.alpha;
     config.shard = args.shard;
-    config.options = NullOptions {
-        burn_in: args.burn_in,
-    };
+    config.options.burn_in = args.burn_in;
     let share = match args.shard {
         Some(s) => (0..args.networks as u64).filter(|&r| s.contains(r)).count(),
         None => args.networks,

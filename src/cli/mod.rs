@@ -11,11 +11,13 @@ use std::path::Path;
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
 mod assess;
+mod flat;
 mod measure;
 mod merge;
 mod null;
 mod report;
 mod sample;
+mod species;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
@@ -45,6 +47,8 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
+    Species(species::SpeciesArgs),
     /// Type I error and power of each index x null model on generated networks.
     Assess(assess::AssessArgs),
 }
@@ -82,6 +86,7 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Species(args) => species::run(args),
         Command::Assess(args) => assess::run(args),
     };
     match result {
