@@ -10,6 +10,7 @@ use std::path::Path;
 
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
+mod assess;
 mod effort;
 mod flat;
 mod measure;
@@ -51,6 +52,8 @@ enum Command {
     Species(species::SpeciesArgs),
     /// Rarefy a visit-count network: is it sampled enough for its nestedness to mean anything?
     Effort(effort::EffortArgs),
+    /// Type I error and power of each index x null model on generated networks.
+    Assess(assess::AssessArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -88,6 +91,7 @@ pub fn main() -> ExitCode {
         Command::Sample(args) => sample::run(args),
         Command::Species(args) => species::run(args),
         Command::Effort(args) => effort::run(args),
+        Command::Assess(args) => assess::run(args),
     };
     match result {
         Ok(code) => code,
