@@ -4,10 +4,12 @@
 use std::process::ExitCode;
 
 use std::io::{self, Write};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use nidus::io::{EdgeHeader, Layout, ReadOptions};
 
+mod atomic;
 mod measure;
 mod merge;
 mod null;
@@ -16,6 +18,13 @@ mod sample;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
+/// Exit status when a result could not be written (standard output or a
+/// file): a full disk, a closed device, a folder that cannot be written.
+pub const EXIT_OUTPUT: u8 = 3;
+
+/// Set by [`emit`] when standard output failed; `main` then exits with
+/// [`EXIT_OUTPUT`] whatever the subcommand returned.
+static OUTPUT_FAILED: AtomicBool = AtomicBool::new(false);
 
 #[derive(Parser, Debug)]
 #[command(
@@ -56,7 +65,8 @@ pub enum Format {
 }
 
 /// Runs the command line and maps failures to exit statuses: 0 success,
-/// 2 bad input or options (clap's own usage errors also exit 2).
+/// 2 bad input or options (clap's own usage errors also exit 2), 3 a result
+/// that could not be written (standard output or a file).
 pub fn main() -> ExitCode {
     let cli = Cli::parse();
     if let Some(n) = cli.threads {
@@ -78,13 +88,27 @@ pub fn main() -> ExitCode {
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
     };
-    match result {
+    let code = match result {
         Ok(code) => code,
+        Err(e @ nidus::Error::Write { .. }) => {
+            eprintln!("nidus: {e}");
+            ExitCode::from(EXIT_OUTPUT)
+        }
         Err(e) => {
             eprintln!("nidus: {e}");
             ExitCode::from(EXIT_INPUT)
         }
+    };
+    // Anything still buffered is written now, so its failure is seen too.
+    if let Err(e) = io::stdout().lock().flush() {
+        if e.kind() != io::ErrorKind::BrokenPipe && !OUTPUT_FAILED.swap(true, Ordering::SeqCst) {
+            eprintln!("nidus: cannot write the output: {e}");
+        }
     }
+    if OUTPUT_FAILED.load(Ordering::SeqCst) {
+        return ExitCode::from(EXIT_OUTPUT);
+    }
+    code
 }
 
 /// A comma-separated list of names on the command line.
@@ -134,14 +158,19 @@ impl LayoutArgs {
     }
 }
 
-/// Writes to stdout; false when the reader has gone (a closed pipe, as in
-/// `nidus ... | head`) or on another write error, which is reported.
+/// The one place the CLI writes results to standard output. Returns false
+/// when writing should stop: the reader has gone (a closed pipe, as in
+/// `nidus ... | head`, which is not an error), or another write error (a
+/// full disk: `nidus measure ok.csv > /dev/full`), which is reported once
+/// and makes the process exit with [`EXIT_OUTPUT`].
 pub fn emit(out: &mut impl Write, text: &str) -> bool {
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => true,
         Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
         Err(e) => {
-            eprintln!("nidus: cannot write the output: {e}");
+            if !OUTPUT_FAILED.swap(true, Ordering::SeqCst) {
+                eprintln!("nidus: cannot write the output: {e}");
+            }
             false
         }
     }

@@ -1,8 +1,7 @@
 //! `nidus null`: every requested index of every file against every
 //! requested null model; and the output shared with `nidus merge`.
 
-use std::fs::File;
-use std::io::{self, IsTerminal, Write};
+use std::io::{self, IsTerminal};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
@@ -10,12 +9,16 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::index::IndexKind;
 use nidus::io::read_network;
-use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
+use nidus::null::{
+    draws_file::MAX_DRAWS, run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun,
+    Shard,
+};
 use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
 pub use super::emit;
+use super::atomic::{refuse_input_as_target, AtomicFile};
 use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
 
 #[derive(Args, Debug)]
@@ -243,15 +246,15 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             binary_models.join(", ")
         )));
     }
+    check_bounds(&args)?;
     let read = args.input.read_options();
+    // Written beside the target and renamed into place only when every file
+    // ran: an interrupted or failed run leaves an earlier part untouched.
     let mut saved = match &args.save_draws {
-        Some(p) => Some((
-            p.clone(),
-            io::BufWriter::new(File::create(p).map_err(|source| Error::Write {
-                path: p.clone(),
-                source,
-            })?),
-        )),
+        Some(p) => {
+            refuse_input_as_target(p, &args.files, "--save-draws")?;
+            Some(AtomicFile::create(p)?)
+        }
         None => None,
     };
     let stdout = io::stdout();
@@ -298,18 +301,17 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                     continue;
                 }
             };
-            if let Some((path, w)) = saved.as_mut() {
-                run.write_draws(&shown, w).map_err(|source| Error::Write {
-                    path: path.clone(),
-                    source,
-                })?;
+            if let Some(f) = saved.as_mut() {
+                if let Err(e) = run.write_draws(&shown, f.writer()) {
+                    return Err(f.error(e));
+                }
             }
-            if let (Some(s), Some((path, _))) = (args.shard, saved.as_ref()) {
+            if let (Some(s), Some(f)) = (args.shard, saved.as_ref()) {
                 eprintln!(
-                    "nidus: {shown} ({model}): shard {s}, {} of {} draws saved to {}",
+                    "nidus: {shown} ({model}): shard {s}, {} of {} draws written for {}",
                     run.draw_ids.len(),
                     run.draws,
-                    path.display()
+                    f.target().display()
                 );
             }
             if args.shard.is_none() {
@@ -320,11 +322,47 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             }
         }
     }
-    if let Some((path, mut w)) = saved {
-        w.flush().map_err(|source| Error::Write { path, source })?;
+    if let Some(f) = saved {
+        if failed > 0 {
+            eprintln!(
+                "nidus: {failed} run(s) failed: {} was not written (an earlier file there is kept)",
+                f.target().display()
+            );
+            drop(f);
+        } else {
+            let path = f.target().to_path_buf();
+            f.commit()?;
+            if args.shard.is_some() {
+                eprintln!("nidus: draws saved to {}", path.display());
+            }
+        }
     }
     if failed > 0 {
         return Ok(ExitCode::from(EXIT_INPUT));
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// Refuses draw and shard counts that no run needs and that would exhaust
+/// memory or time: at most [`MAX_DRAWS`] draws, at most as many shards as
+/// draws.
+fn check_bounds(args: &NullArgs) -> nidus::Result<()> {
+    if args.draws == 0 {
+        return Err(Error::InvalidArgument("--draws must be at least 1".into()));
+    }
+    if args.draws > MAX_DRAWS {
+        return Err(Error::InvalidArgument(format!(
+            "--draws {}: at most {MAX_DRAWS} draws per run (split larger runs over seeds)",
+            args.draws
+        )));
+    }
+    if let Some(s) = args.shard {
+        if s.count() > args.draws {
+            return Err(Error::InvalidArgument(format!(
+                "--shard {s}: more shards than the {} draws; use at most {} shards",
+                args.draws, args.draws
+            )));
+        }
+    }
+    Ok(())
 }
