@@ -81,7 +81,11 @@ impl Drop for AtomicFile {
 /// Errors when `target` is the same file as one of `inputs` (by identity
 /// where the system gives one, else by canonical path), so that writing it
 /// cannot destroy an input.
-pub fn refuse_input_as_target(target: &Path, inputs: &[PathBuf], option: &str) -> nidus::Result<()> {
+pub fn refuse_input_as_target(
+    target: &Path,
+    inputs: &[PathBuf],
+    option: &str,
+) -> nidus::Result<()> {
     let Ok(t) = fs::metadata(target) else {
         return Ok(()); // a new file cannot be an input
     };

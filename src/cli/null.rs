@@ -17,8 +17,8 @@ use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
-pub use super::emit;
 use super::atomic::{refuse_input_as_target, AtomicFile};
+pub use super::emit;
 use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
 
 #[derive(Args, Debug)]

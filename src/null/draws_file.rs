@@ -370,7 +370,9 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
             .collect::<Result<_>>()?;
         match l.next_line() {
             Some((_, line)) if line.split('\t').next() == Some("draw") => {}
-            Some((no, _)) => return Err(l.err(no, None, "expected the column line 'draw<TAB>...'")),
+            Some((no, _)) => {
+                return Err(l.err(no, None, "expected the column line 'draw<TAB>...'"))
+            }
             None => return Err(l.err(0, None, "the file ends before the column line")),
         }
         let mut draw_ids = Vec::new();
@@ -502,7 +504,12 @@ fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
                 a.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
                 b.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
             )
-            .map(|_| format!("observed values {:?} vs {:?} (the network files differ)", a.observed, b.observed))
+            .map(|_| {
+                format!(
+                    "observed values {:?} vs {:?} (the network files differ)",
+                    a.observed, b.observed
+                )
+            })
         })
 }
 

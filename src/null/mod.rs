@@ -72,7 +72,7 @@ mod weighted;
 
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
-pub use draws_file::{merge_runs, parse_draws, read_draws, SavedRun};
+pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun};
 pub use patefield::FixedTotals;
 pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
 pub use weighted::{ShuffleCells, ShuffleWeights};

@@ -1,0 +1,322 @@
+//! Issue 10, "nothing lost, nothing exhausted": each reproducer of the
+//! issue (quoted in the test's comment) run through the binary or the
+//! library, with the refusal or exit status it must now give.
+
+mod common;
+
+use std::path::{Path, PathBuf};
+
+use common::*;
+use nidus::null::{parse_draws, Fnv1a};
+
+/// A small nested network typed by hand (a demo shape, invented).
+fn ok_file(name: &str) -> PathBuf {
+    let p = scratch(name);
+    std::fs::write(&p, ",a,b,c,d\nw,1,1,1,1\nx,1,1,1,0\ny,1,1,0,0\nz,1,0,0,1\n").unwrap();
+    p
+}
+
+fn s(p: &Path) -> &str {
+    p.to_str().unwrap()
+}
+
+fn stderr(o: &std::process::Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+/// Three shards of a 60-draw run on `net`, saved as `stem.1.tsv` ...
+fn shards(net: &Path, stem: &str, k: usize) -> Vec<PathBuf> {
+    (1..=k)
+        .map(|i| {
+            let p = scratch(&format!("{stem}.{i}.tsv"));
+            let o = nidus(&[
+                "null",
+                s(net),
+                "--model",
+                "fixed-rows",
+                "--index",
+                "nodf,temperature-sorted",
+                "--seed",
+                "7",
+                "--draws",
+                "60",
+                "--shard",
+                &format!("{i}/{k}"),
+                "--save-draws",
+                s(&p),
+            ]);
+            assert!(o.status.success(), "{}", stderr(&o));
+            p
+        })
+        .collect()
+}
+
+/// Reproducer 1: `nidus measure ok.csv > /dev/full` printed "No space left
+/// on device" and exited 0; the same for `null` and `merge`. Now exit 3.
+#[cfg(target_os = "linux")]
+#[test]
+fn output_to_a_full_device_exits_3() {
+    let net = ok_file("full.csv");
+    let parts = shards(&net, "full", 2);
+    let full = || {
+        std::fs::OpenOptions::new()
+            .write(true)
+            .open("/dev/full")
+            .unwrap()
+    };
+    let cases: Vec<Vec<&str>> = vec![
+        vec!["measure", s(&net)],
+        vec!["measure", "--format", "json", s(&net)],
+        vec![
+            "null",
+            s(&net),
+            "--model",
+            "fixed-rows",
+            "--seed",
+            "1",
+            "--draws",
+            "20",
+        ],
+        vec!["merge", s(&parts[0]), s(&parts[1])],
+    ];
+    for args in cases {
+        let o = std::process::Command::new(env!("CARGO_BIN_EXE_nidus"))
+            .args(&args)
+            .stdout(full())
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(3), "{args:?}: {}", stderr(&o));
+        assert!(
+            stderr(&o).contains("No space left"),
+            "{args:?}: {}",
+            stderr(&o)
+        );
+    }
+}
+
+/// Reproducer 2: "`--save-draws` pointed at the input file destroys the
+/// input; a re-run with a typo empties a good part file."
+#[test]
+fn save_draws_never_destroys_an_input_or_a_good_part() {
+    let net = ok_file("keep.csv");
+    let before = std::fs::read(&net).unwrap();
+    // The input itself, and the input spelled differently (./ and ..).
+    let dir = net.parent().unwrap();
+    let other = dir.join(".").join("keep.csv");
+    for target in [net.clone(), other] {
+        let o = nidus(&[
+            "null",
+            s(&net),
+            "--model",
+            "fixed-rows",
+            "--seed",
+            "1",
+            "--draws",
+            "10",
+            "--save-draws",
+            s(&target),
+        ]);
+        assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+        assert!(stderr(&o).contains("input file"), "{}", stderr(&o));
+        assert_eq!(std::fs::read(&net).unwrap(), before);
+    }
+    // A good part, then a re-run whose input path has a typo: part kept.
+    let part = scratch("good.part.tsv");
+    let o = nidus(&[
+        "null",
+        s(&net),
+        "--model",
+        "fixed-rows",
+        "--seed",
+        "1",
+        "--draws",
+        "10",
+        "--shard",
+        "1/2",
+        "--save-draws",
+        s(&part),
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let good = std::fs::read(&part).unwrap();
+    let o = nidus(&[
+        "null",
+        "keep.csvv",
+        "--model",
+        "fixed-rows",
+        "--seed",
+        "1",
+        "--draws",
+        "10",
+        "--shard",
+        "1/2",
+        "--save-draws",
+        s(&part),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert_eq!(
+        std::fs::read(&part).unwrap(),
+        good,
+        "the good part was replaced"
+    );
+    // No temporary is left beside it.
+    let left: Vec<_> = std::fs::read_dir(part.parent().unwrap())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().contains("nidus-partial"))
+        .collect();
+    assert!(left.is_empty(), "{left:?}");
+}
+
+/// Reproducer 3: a part cut inside its last number (`39 77.03724029618256`
+/// -> `39 77`) merged with exit 0 and a wrong mean; values no index can
+/// take (negative NODF, 1e300) were accepted.
+#[test]
+fn merge_refuses_cut_or_edited_parts() {
+    let net = ok_file("cut.csv");
+    let parts = shards(&net, "cut", 3);
+    let o = nidus(&["merge", s(&parts[0]), s(&parts[1]), s(&parts[2])]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(&parts[2]).unwrap();
+    // Cut every number of bytes from 2 to 40 off the end: always refused.
+    // (Cutting only the final newline leaves the trailer whole: accepted.)
+    for cut in 2..=40 {
+        let p = scratch(&format!("cut.short{cut}.tsv"));
+        std::fs::write(&p, &text[..text.len() - cut]).unwrap();
+        let o = nidus(&["merge", s(&parts[0]), s(&parts[1]), s(&p)]);
+        assert_eq!(o.status.code(), Some(2), "cut {cut}: {}", stderr(&o));
+    }
+    // Edit one draw value, keeping the line well formed: the checksum sees it.
+    let last_draw = text.lines().rev().nth(1).unwrap();
+    let mut f = last_draw.split('\t');
+    let k = f.next().unwrap();
+    let edits = [
+        format!("{k}\t1\t1"),
+        format!("{k}\t-3\t1"),
+        format!("{k}\t1e300\t1"),
+        format!("{k}\tNaN\t1"),
+    ];
+    for (n, edit) in edits.iter().enumerate() {
+        let p = scratch(&format!("cut.edit{n}.tsv"));
+        std::fs::write(&p, text.replace(last_draw, edit)).unwrap();
+        let o = nidus(&["merge", s(&parts[0]), s(&parts[1]), s(&p)]);
+        assert_eq!(o.status.code(), Some(2), "{edit}: {}", stderr(&o));
+    }
+    let e = parse_draws(&text.replace(last_draw, &edits[1]), Path::new("p")).unwrap_err();
+    assert!(
+        e.to_string().contains("is not a value nodf can take"),
+        "{e}"
+    );
+}
+
+/// The trailer's checksum is 64-bit FNV-1a: test vectors of IETF
+/// draft-eastlake-fnv ("foobar" -> 0x85944171f73967e8).
+#[test]
+fn checksum_is_fnv1a_64() {
+    let mut h = Fnv1a::default();
+    h.write(b"foo");
+    h.write(b"bar");
+    assert_eq!(h.finish(), 0x8594_4171_f739_67e8);
+}
+
+/// Reproducer 4: "`merge` of only empty parts (what shards that died early
+/// leave) exits 0 with a header and no result."
+#[test]
+fn merge_of_only_empty_parts_is_refused() {
+    let a = scratch("empty.a.tsv");
+    let b = scratch("empty.b.tsv");
+    std::fs::write(&a, "").unwrap();
+    std::fs::write(&b, "").unwrap();
+    let o = nidus(&["merge", "--format", "csv", s(&a), s(&b)]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(o.stdout.is_empty());
+    assert!(stderr(&o).contains("no saved run"), "{}", stderr(&o));
+}
+
+/// Reproducer 5: "`--shard 1/100000000000` is accepted by `null` and then
+/// aborts `merge` on an 800 GB allocation; `# draws 18446744073709551615`
+/// panics."
+#[test]
+fn huge_shard_and_draw_counts_are_refused() {
+    let net = ok_file("huge.csv");
+    let p = scratch("huge.tsv");
+    let o = nidus(&[
+        "null",
+        s(&net),
+        "--model",
+        "fixed-rows",
+        "--seed",
+        "1",
+        "--draws",
+        "10",
+        "--shard",
+        "1/100000000000",
+        "--save-draws",
+        s(&p),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("more shards than"), "{}", stderr(&o));
+    let o = nidus(&[
+        "null",
+        s(&net),
+        "--model",
+        "fixed-rows",
+        "--seed",
+        "1",
+        "--draws",
+        "100000000000",
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    // The same values written into a saved file by hand.
+    let parts = shards(&net, "huge", 2);
+    let text = std::fs::read_to_string(&parts[0]).unwrap();
+    for (from, to) in [
+        ("# draws\t60", "# draws\t18446744073709551615"),
+        (
+            "# draws\t60",
+            "# draws\t99999999999999999999999999999999999999999",
+        ),
+        ("# shard\t1/2", "# shard\t1/100000000000"),
+    ] {
+        let bad = text.replace(from, to);
+        assert_ne!(bad, text);
+        let q = scratch("huge.bad.tsv");
+        std::fs::write(&q, bad).unwrap();
+        let o = nidus(&["merge", s(&q), s(&parts[1])]);
+        assert_eq!(o.status.code(), Some(2), "{to}: {}", stderr(&o));
+        assert!(!stderr(&o).contains("panicked"), "{}", stderr(&o));
+    }
+}
+
+/// Reproducer 7 (second half): the "different runs" message names the
+/// setting that differs.
+#[test]
+fn different_runs_name_the_setting() {
+    let net = ok_file("diff.csv");
+    let parts = shards(&net, "diff", 2);
+    let text = std::fs::read_to_string(&parts[1]).unwrap();
+    let o = nidus(&["merge", s(&parts[0]), s(&parts[1])]);
+    assert!(o.status.success());
+    // Re-run shard 2 with another seed.
+    let p = scratch("diff.seed.tsv");
+    let o = nidus(&[
+        "null",
+        s(&net),
+        "--model",
+        "fixed-rows",
+        "--index",
+        "nodf,temperature-sorted",
+        "--seed",
+        "8",
+        "--draws",
+        "60",
+        "--shard",
+        "2/2",
+        "--save-draws",
+        s(&p),
+    ]);
+    assert!(o.status.success());
+    let o = nidus(&["merge", s(&parts[0]), s(&p)]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("seed 7 vs 8"), "{}", stderr(&o));
+    assert!(text.contains("# end\t"));
+}
