@@ -320,3 +320,138 @@ fn different_runs_name_the_setting() {
     assert!(stderr(&o).contains("seed 7 vs 8"), "{}", stderr(&o));
     assert!(text.contains("# end\t"));
 }
+
+/// Reproducers 11: "`--restarts 1000000000` aborts, `--restarts 2^64-1`
+/// panics, `--threads 100000` spends 30 s starting threads, `sample --count
+/// 2^64-1` writes millions of files, `--burn-in 0` or 1 with fixed-both
+/// returns the observed matrix every draw, `sample --count 0` succeeds
+/// silently."
+#[test]
+fn huge_or_useless_option_values_are_refused() {
+    let net = ok_file("opts.csv");
+    for r in ["1000000000", "18446744073709551615"] {
+        let o = nidus(&["measure", s(&net), "--restarts", r]);
+        assert_eq!(o.status.code(), Some(2), "{r}: {}", stderr(&o));
+        assert!(stderr(&o).contains("--restarts"), "{}", stderr(&o));
+    }
+    let t = std::time::Instant::now();
+    let o = nidus(&["--threads", "100000", "measure", s(&net)]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(stderr(&o).contains("far above"), "{}", stderr(&o));
+    // Not a timing assertion on speed, only a guard against minutes.
+    assert!(t.elapsed().as_secs() < 20);
+    let dir = scratch("opts.samples");
+    for c in ["0", "18446744073709551615", "20000"] {
+        let o = nidus(&[
+            "sample",
+            s(&net),
+            "--model",
+            "fixed-rows",
+            "--seed",
+            "1",
+            "--count",
+            c,
+            "--out",
+            s(&dir),
+        ]);
+        assert_eq!(o.status.code(), Some(2), "{c}: {}", stderr(&o));
+    }
+    assert!(!dir.exists() || std::fs::read_dir(&dir).unwrap().next().is_none());
+    for b in ["0", "1"] {
+        let o = nidus(&[
+            "null",
+            s(&net),
+            "--model",
+            "fixed-both",
+            "--seed",
+            "1",
+            "--draws",
+            "10",
+            "--burn-in",
+            b,
+        ]);
+        assert_eq!(o.status.code(), Some(2), "{b}: {}", stderr(&o));
+        assert!(
+            stderr(&o).contains("at least 5 * max(rows, columns) = 20"),
+            "{}",
+            stderr(&o)
+        );
+    }
+    let o = nidus(&[
+        "null",
+        s(&net),
+        "--model",
+        "fixed-rows",
+        "--seed",
+        "1",
+        "--draws",
+        "10",
+        "--burn-in",
+        "100",
+    ]);
+    assert!(o.status.success());
+    assert!(
+        stderr(&o).contains("applies only to fixed-both"),
+        "{}",
+        stderr(&o)
+    );
+}
+
+/// Reproducer 12: "`sample --out DIR` into a used folder overwrites and
+/// leaves another run's files beside the new ones."
+#[test]
+fn sample_out_refuses_a_used_folder_and_writes_a_manifest() {
+    let net = ok_file("samp.csv");
+    let dir = scratch("samp.out");
+    let args = |count: &'static str, force: bool| {
+        let mut a = vec![
+            "sample".to_string(),
+            s(&net).into(),
+            "--model".into(),
+            "fixed-rows".into(),
+            "--seed".into(),
+            "3".into(),
+            "--count".into(),
+            count.into(),
+            "--out".into(),
+            s(&dir).into(),
+        ];
+        if force {
+            a.push("--force".into());
+        }
+        a
+    };
+    let run = |a: Vec<String>| nidus(&a.iter().map(String::as_str).collect::<Vec<_>>());
+    let o = run(args("3", false));
+    assert!(o.status.success(), "{}", stderr(&o));
+    let line = String::from_utf8(o.stdout).unwrap();
+    assert_eq!(line.lines().count(), 1, "{line}");
+    assert!(line.contains("wrote 3 fixed-rows networks"), "{line}");
+    let mut names: Vec<String> = std::fs::read_dir(&dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(
+        names,
+        [
+            "nidus-manifest.json",
+            "samp.fixed-rows.000000.csv",
+            "samp.fixed-rows.000001.csv",
+            "samp.fixed-rows.000002.csv"
+        ]
+    );
+    let m: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("nidus-manifest.json")).unwrap())
+            .unwrap();
+    assert_eq!(m["model"], "fixed-rows");
+    assert_eq!(m["seed"], 3);
+    assert_eq!(m["count"], 3);
+    assert_eq!(m["version"], env!("CARGO_PKG_VERSION"));
+    assert!(m["source"].as_str().unwrap().ends_with("samp.csv"));
+    let o = run(args("2", false));
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("--force"), "{}", stderr(&o));
+    let o = run(args("2", true));
+    assert!(o.status.success(), "{}", stderr(&o));
+}

@@ -37,7 +37,16 @@ pub struct MeasureArgs {
     format: Format,
 }
 
+/// The most random starts of the temperature packing search accepted.
+pub const MAX_RESTARTS: usize = 10_000;
+
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
+    if args.restarts > MAX_RESTARTS {
+        return Err(nidus::Error::InvalidArgument(format!(
+            "--restarts {}: at most {MAX_RESTARTS} random starts (each is a full packing search)",
+            args.restarts
+        )));
+    }
     let read = args.input.read_options();
     let opts = MeasureOptions {
         order: args.order,

@@ -22,6 +22,9 @@ pub const EXIT_INPUT: u8 = 2;
 /// file): a full disk, a closed device, a folder that cannot be written.
 pub const EXIT_OUTPUT: u8 = 3;
 
+/// `--threads` is capped at this many threads per core.
+pub const MAX_THREADS_PER_CORE: usize = 4;
+
 /// Set by [`emit`] when standard output failed; `main` then exits with
 /// [`EXIT_OUTPUT`] whatever the subcommand returned.
 static OUTPUT_FAILED: AtomicBool = AtomicBool::new(false);
@@ -69,10 +72,20 @@ pub enum Format {
 /// that could not be written (standard output or a file).
 pub fn main() -> ExitCode {
     let cli = Cli::parse();
-    if let Some(n) = cli.threads {
+    if let Some(mut n) = cli.threads {
         if n == 0 {
             eprintln!("nidus: --threads must be at least 1");
             return ExitCode::from(EXIT_INPUT);
+        }
+        // More threads than cores only costs time to start them (results do
+        // not depend on the count): cap at a small multiple of the cores.
+        let cores = std::thread::available_parallelism().map_or(1, |c| c.get());
+        if n > MAX_THREADS_PER_CORE * cores {
+            eprintln!(
+                "nidus: --threads {n} is far above the {cores} core(s) here; using {}",
+                MAX_THREADS_PER_CORE * cores
+            );
+            n = MAX_THREADS_PER_CORE * cores;
         }
         if let Err(e) = rayon::ThreadPoolBuilder::new()
             .num_threads(n)

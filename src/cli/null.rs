@@ -247,6 +247,11 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         )));
     }
     check_bounds(&args)?;
+    if args.burn_in.is_some() && !args.model.0.contains(&NullModel::FixedBoth) {
+        eprintln!(
+            "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
+        );
+    }
     let read = args.input.read_options();
     // Written beside the target and renamed into place only when every file
     // ran: an interrupted or failed run leaves an earlier part untouched.

@@ -214,8 +214,9 @@ enum Inner {
 impl NullSampler {
     /// Validates `net` for `model` (see each model's `new`) and prepares it.
     ///
-    /// Errors: a network too large for a dense table, or non-integer weights
-    /// for `fixed-totals`.
+    /// Errors: a network too large for a dense table, non-integer weights
+    /// for `fixed-totals`, or a `fixed-both` burn-in below the default
+    /// `5 * max(m, n)` (the least METHODS.md §6 allows).
     pub fn new<T: Weight>(
         net: &Network<T>,
         model: NullModel,
@@ -228,9 +229,18 @@ impl NullSampler {
             NullModel::FixedColumns => Inner::FixedColumns(FixedColumns::new(net)?),
             NullModel::FixedBoth => {
                 let start = CurveballChain::new(&net.binary()?);
-                let burn_in = options
-                    .burn_in
-                    .unwrap_or_else(|| CurveballChain::default_burn_in(net.nrows(), net.ncols()));
+                let least = CurveballChain::default_burn_in(net.nrows(), net.ncols());
+                let burn_in = options.burn_in.unwrap_or(least);
+                if burn_in < least {
+                    // Below it a draw stays close to the observed matrix
+                    // (burn-in 0 returns it unchanged): METHODS.md §6.
+                    return Err(Error::InvalidArgument(format!(
+                        "--burn-in {burn_in}: fixed-both needs at least 5 * max(rows, columns) \
+                         = {least} curveball trades per draw on this {} x {} network",
+                        net.nrows(),
+                        net.ncols()
+                    )));
+                }
                 Inner::FixedBoth { start, burn_in }
             }
             NullModel::ShuffleCells => Inner::ShuffleCells(ShuffleCells::new(net)?),
