@@ -455,3 +455,42 @@ fn sample_out_refuses_a_used_folder_and_writes_a_manifest() {
     let o = run(args("2", true));
     assert!(o.status.success(), "{}", stderr(&o));
 }
+
+/// Reproducer 14: "`fixed-totals` hangs on large whole-number counts (a 3x3
+/// table with 10^12 counts stuck on one draw for 100 s)", and "too large"
+/// rather than "not a whole number" for 1e18. The draws keep both margins,
+/// and cell (0,0) has the mean r c / N and variance
+/// r c (N - r)(N - c) / (N^2 (N - 1)) of a cell of a table with fixed
+/// margins under independence (the hypergeometric law of one cell; e.g.
+/// Agresti, Categorical Data Analysis, 2nd ed., sec. 3.5.7, from memory).
+#[test]
+fn fixed_totals_with_huge_counts_does_not_hang() {
+    use nidus::null::{draw_rng, FixedTotals};
+    let e = 1e12;
+    let net = nidus::Network::from_array(ndarray::array![[e, e, e], [e, e, e], [e, e, e]]).unwrap();
+    let ft = FixedTotals::new(&net).unwrap();
+    let reps = 400;
+    let mut xs = Vec::new();
+    for k in 0..reps {
+        let t = ft.sample(&mut draw_rng(11, k));
+        for i in 0..3 {
+            assert_eq!(t.row(i).sum(), 3e12);
+            assert_eq!(t.column(i).sum(), 3e12);
+        }
+        xs.push(t[[0, 0]]);
+    }
+    let (n, r, c) = (9e12f64, 3e12f64, 3e12f64);
+    let var = r * c * (n - r) * (n - c) / (n * n * (n - 1.0));
+    let mean = xs.iter().sum::<f64>() / reps as f64;
+    let sd = (xs.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (reps as f64 - 1.0)).sqrt();
+    let se = (var / reps as f64).sqrt();
+    assert!((mean - 1e12).abs() < 5.0 * se, "mean {mean}, se {se}");
+    assert!(
+        (sd / var.sqrt() - 1.0).abs() < 0.2,
+        "sd {sd} vs {}",
+        var.sqrt()
+    );
+    let big = nidus::Network::from_array(ndarray::array![[1e18, 1.0], [1.0, 1.0]]).unwrap();
+    let msg = FixedTotals::new(&big).unwrap_err().to_string();
+    assert!(msg.contains("too large") && !msg.contains("whole"), "{msg}");
+}

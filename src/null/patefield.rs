@@ -14,6 +14,10 @@ const MAX_TOTAL: u64 = 1 << 53;
 /// `ln k!` is tabulated up to this `k`; above it Stirling's series is used.
 const TABLE: usize = 1 << 16;
 
+/// Above this variance a cell's hypergeometric value is drawn by H2PE
+/// (rand_distr's `Hypergeometric`) instead of the walk from the mode.
+const WIDE_VARIANCE: f64 = 1e6;
+
 /// `fixed-totals`: integer tables with the observed row sums `r_i` and
 /// column sums `c_j`, drawn from their distribution under independence
 /// given the margins (the multiple hypergeometric: the `N` units of the
@@ -32,7 +36,12 @@ const TABLE: usize = 1 << 16;
 /// fixed by the margins. Each hypergeometric value is found by inversion,
 /// starting at the mode and stepping outwards, alternately up and down,
 /// with the ratio of successive probabilities, so the work per cell grows
-/// with the spread of its distribution rather than its range.
+/// with the spread of its distribution rather than its range. A cell whose
+/// distribution has a variance above 10^6 (sd above 1000) is drawn instead
+/// by the H2PE rejection method (Kachitvichyanukul & Schmeiser 1985, J.
+/// Stat. Comput. Simul. 22:127-145) as rand_distr implements it, in a
+/// bounded expected time whatever the counts (its draws depend on that
+/// crate's algorithm, fixed within its 0.5 series).
 ///
 /// Cost per draw: `O(sum over cells of (1 + sd of the cell))`; memory
 /// `O(m n)` for the table plus a `ln k!` table of at most 2^16 entries.
@@ -77,7 +86,15 @@ impl FixedTotals {
             let (cs, vals) = csr.row(i);
             for (&j, &x) in cs.iter().zip(vals) {
                 let v = x.as_f64();
-                if v.fract() != 0.0 || v > MAX_TOTAL as f64 {
+                if v > MAX_TOTAL as f64 {
+                    return Err(Error::InvalidArgument(format!(
+                        "the fixed-totals model accepts counts up to 2^53, but row '{}', column '{}' holds {}: too large",
+                        net.row_labels()[i],
+                        net.col_labels()[j as usize],
+                        x
+                    )));
+                }
+                if v.fract() != 0.0 {
                     return Err(Error::InvalidArgument(format!(
                         "the fixed-totals model needs whole-number counts, but row '{}', column '{}' holds {}",
                         net.row_labels()[i],
@@ -147,6 +164,17 @@ impl FixedTotals {
         let hi = draws.min(succ);
         if lo == hi {
             return lo;
+        }
+        // A wide distribution: the walk below would take time growing with
+        // its spread (and, where the log-factorials lose accuracy, with its
+        // whole range). H2PE (Kachitvichyanukul & Schmeiser 1985) takes a
+        // bounded expected time whatever the counts.
+        let (p, s, d) = (pop as f64, succ as f64, draws as f64);
+        let var = d * (s / p) * ((p - s) / p) * ((p - d) / (p - 1.0).max(1.0));
+        if var > WIDE_VARIANCE {
+            if let Ok(h) = rand_distr::Hypergeometric::new(pop, succ, draws) {
+                return rand_distr::Distribution::sample(&h, rng);
+            }
         }
         let mode = (((draws + 1) as u128 * (succ + 1) as u128) / (pop + 2) as u128) as u64;
         let mode = mode.clamp(lo, hi);
