@@ -5,17 +5,18 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::io::read_network;
 use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
 use nidus::Order;
 
 use super::report::Table;
-use super::{emit, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    emit, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Row and column order for NODF and WNODF: sorted (by decreasing degree) or given (as in the file).
@@ -48,6 +49,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         )));
     }
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let opts = MeasureOptions {
         order: args.order,
         families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
@@ -67,13 +69,11 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         }
     }
     for file in &args.files {
-        let result = read_network(file, &read).and_then(|net| {
+        let shown = input_name(file);
+        let result = read_input(file, &read).and_then(|read| {
+            let net = read.network;
             let m = measure(&net, &opts)?;
-            Ok(table.record(
-                &file.display().to_string(),
-                &m,
-                (net.row_labels(), net.col_labels()),
-            ))
+            Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels())))
         });
         match result {
             Ok(text) => {
@@ -83,7 +83,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             }
             Err(e) => {
                 failed += 1;
-                report_failure(&file.display().to_string(), &e);
+                report_failure(&shown, &e);
             }
         }
     }

@@ -8,7 +8,6 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::index::IndexKind;
-use nidus::io::read_network;
 use nidus::null::{
     draws_file::MAX_DRAWS, run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun,
     Shard,
@@ -19,11 +18,14 @@ use serde_json::{Map, Value};
 
 use super::atomic::{refuse_input_as_target, AtomicFile};
 pub use super::emit;
-use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
+    EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct NullArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Null models, comma-separated: equiprobable, proportional, fixed-rows, fixed-columns,
@@ -253,6 +255,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         );
     }
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     // Written beside the target and renamed into place only when every file
     // ran: an interrupted or failed run leaves an earlier part untouched.
     let mut saved = match &args.save_draws {
@@ -273,9 +276,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     }
     let mut failed = 0usize;
     'files: for file in &args.files {
-        let shown = file.display().to_string();
-        let net = match read_network(file, &read) {
-            Ok(n) => n,
+        let shown = input_name(file);
+        let net = match read_input(file, &read) {
+            Ok(r) => r.network,
             Err(e) => {
                 failed += 1;
                 report_failure(&shown, &e);
