@@ -494,3 +494,56 @@ fn fixed_totals_with_huge_counts_does_not_hang() {
     let msg = FixedTotals::new(&big).unwrap_err().to_string();
     assert!(msg.contains("too large") && !msg.contains("whole"), "{msg}");
 }
+
+/// Reproducer 15 (second half): "Weights that overflow in spectral radius
+/// print `null` with exit 0, and in `null` one such file stops all files
+/// after it without naming itself." The radius of a 3 x 3 table of weights
+/// near 1.7e308 is above the largest float (it is at least the largest
+/// row's Euclidean norm, sqrt(3) x 1.7e308: Horn & Johnson, Matrix
+/// Analysis, the spectral norm bounds every row's norm).
+#[test]
+fn spectral_overflow_is_an_error_per_file() {
+    let huge = scratch("over.csv");
+    std::fs::write(
+        &huge,
+        ",a,b,c\nx,1.7e308,1.7e308,1.7e308\ny,1.7e308,1.7e308,1\nz,1.7e308,1,1\n",
+    )
+    .unwrap();
+    let ok = ok_file("over.ok.csv");
+    let o = nidus(&[
+        "measure",
+        "--indices",
+        "spectral",
+        "--format",
+        "json",
+        s(&huge),
+        s(&ok),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let out = String::from_utf8(o.stdout.clone()).unwrap();
+    assert_eq!(out.lines().count(), 1, "{out}");
+    assert!(
+        out.contains("over.ok.csv") && !out.contains("null"),
+        "{out}"
+    );
+    assert!(stderr(&o).contains("over.csv") && stderr(&o).contains("beyond the largest"));
+    let o = nidus(&[
+        "null",
+        s(&huge),
+        s(&ok),
+        "--model",
+        "shuffle-weights",
+        "--index",
+        "spectral-weighted",
+        "--seed",
+        "1",
+        "--draws",
+        "20",
+        "--format",
+        "csv",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let out = String::from_utf8(o.stdout.clone()).unwrap();
+    assert_eq!(out.lines().count(), 2, "header and the good file: {out}");
+    assert!(stderr(&o).contains("over.csv"), "{}", stderr(&o));
+}

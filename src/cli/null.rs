@@ -323,7 +323,15 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 );
             }
             if args.shard.is_none() {
-                let text = render(args.format, &shown, &run)?;
+                let text = match render(args.format, &shown, &run) {
+                    Ok(t) => t,
+                    Err(e) => {
+                        // One run that cannot be summarised does not stop the others.
+                        failed += 1;
+                        report_failure(&format!("{shown} ({model})"), &e);
+                        continue;
+                    }
+                };
                 if !emit(&mut out, &text) {
                     break 'files;
                 }

@@ -284,7 +284,17 @@ fn top_singular(lists: &Lists, weighted: bool) -> Result<f64> {
         second.apply(&tmp, y, weighted);
     })?;
     let scale = if weighted { lists.scale } else { 1.0 };
-    Ok(lambda.max(0.0).sqrt() * scale)
+    let radius = lambda.max(0.0).sqrt() * scale;
+    if !radius.is_finite() {
+        // The weights were scaled to at most 1 for the solver; only the
+        // final product overflows.
+        return Err(Error::InvalidArgument(format!(
+            "the weighted spectral radius is {} x {scale:e}, beyond the largest floating-point \
+             number: divide the weights by a constant (the radius scales with them)",
+            lambda.max(0.0).sqrt()
+        )));
+    }
+    Ok(radius)
 }
 
 fn chunked_dots(basis: &[Vec<f64>], w: &[f64]) -> Vec<f64> {
