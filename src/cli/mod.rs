@@ -17,12 +17,17 @@ mod merge;
 mod null;
 mod report;
 mod sample;
+mod signals;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
 /// Exit status when a result could not be written (standard output or a
 /// file): a full disk, a closed device, a folder that cannot be written.
 pub const EXIT_OUTPUT: u8 = 3;
+
+/// Exit status of a run stopped by SIGINT or SIGTERM after saving its
+/// complete draws (128 + SIGINT, the shell's convention).
+pub const EXIT_INTERRUPTED: u8 = 130;
 
 /// `--threads` is capped at this many threads per core.
 pub const MAX_THREADS_PER_CORE: usize = 4;

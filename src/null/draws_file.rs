@@ -123,44 +123,91 @@ impl NullRun {
     /// [`crate::null::draws_file`]). `file` is the network file's label; it
     /// must not contain a tab or a line break.
     pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> std::io::Result<()> {
+        let mut w = SectionWriter::begin(self, file, out)?;
+        for (k, vals) in self.draw_ids.iter().zip(&self.values) {
+            w.draw(*k, vals)?;
+        }
+        w.end()
+    }
+}
+
+/// One section of a saved-draws file written draw by draw: the header at
+/// [`SectionWriter::begin`], a line per [`SectionWriter::draw`], the
+/// trailer (count and checksum) at [`SectionWriter::end`]. A section
+/// without its trailer is refused by the reader, so a writer that never
+/// ends leaves a part `merge` will not take.
+pub struct SectionWriter<'w, W: Write> {
+    out: &'w mut W,
+    sum: Fnv1a,
+    count: usize,
+    line: String,
+}
+
+impl<'w, W: Write> SectionWriter<'w, W> {
+    /// Writes the header of `run`'s section (its draws are not written).
+    pub fn begin(run: &NullRun, file: &str, out: &'w mut W) -> std::io::Result<Self> {
         if file.contains(['\t', '\n', '\r']) {
             return Err(std::io::Error::new(
                 std::io::ErrorKind::InvalidInput,
                 format!("the file name {file:?} holds a tab or line break; it cannot be saved"),
             ));
         }
-        let names: Vec<&str> = self.indices.iter().map(|k| k.name()).collect();
+        let names: Vec<&str> = run.indices.iter().map(|k| k.name()).collect();
         let mut s = String::new();
         s.push_str(&format!("{MAGIC}\t{VERSION}\n"));
         s.push_str(&format!("# file\t{file}\n"));
-        s.push_str(&format!("# model\t{}\n", self.model));
-        s.push_str(&format!("# seed\t{}\n", self.seed));
-        s.push_str(&format!("# draws\t{}\n", self.draws));
-        s.push_str(&format!("# shard\t{}\n", opt(self.shard)));
-        s.push_str(&format!("# stop_after\t{}\n", opt(self.stop_after)));
-        s.push_str(&format!("# burn_in\t{}\n", opt(self.burn_in)));
-        s.push_str(&format!("# order\t{}\n", self.order));
-        let (m, n, l) = self.shape;
+        s.push_str(&format!("# model\t{}\n", run.model));
+        s.push_str(&format!("# seed\t{}\n", run.seed));
+        s.push_str(&format!("# draws\t{}\n", run.draws));
+        s.push_str(&format!("# shard\t{}\n", opt(run.shard)));
+        s.push_str(&format!("# stop_after\t{}\n", opt(run.stop_after)));
+        s.push_str(&format!("# burn_in\t{}\n", opt(run.burn_in)));
+        s.push_str(&format!("# order\t{}\n", run.order));
+        let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
         s.push_str(&format!("# indices\t{}\n", names.join("\t")));
-        let obs: Vec<String> = self.observed.iter().map(|v| format!("{v:?}")).collect();
+        let obs: Vec<String> = run.observed.iter().map(|v| format!("{v:?}")).collect();
         s.push_str(&format!("# observed\t{}\n", obs.join("\t")));
         s.push_str(&format!("draw\t{}\n", names.join("\t")));
         let mut sum = Fnv1a::default();
         sum.write(s.as_bytes());
         out.write_all(s.as_bytes())?;
-        for (k, vals) in self.draw_ids.iter().zip(&self.values) {
-            s.clear();
-            s.push_str(&k.to_string());
-            for v in vals {
-                s.push('\t');
-                s.push_str(&format!("{v:?}"));
-            }
-            s.push('\n');
-            sum.write(s.as_bytes());
-            out.write_all(s.as_bytes())?;
+        Ok(SectionWriter {
+            out,
+            sum,
+            count: 0,
+            line: String::new(),
+        })
+    }
+
+    /// Writes draw `k`'s values.
+    pub fn draw(&mut self, k: u64, values: &[f64]) -> std::io::Result<()> {
+        use std::fmt::Write as _;
+        let s = &mut self.line;
+        s.clear();
+        let _ = write!(s, "{k}");
+        for v in values {
+            let _ = write!(s, "\t{v:?}");
         }
-        writeln!(out, "# end\t{}\t{:016x}", self.draw_ids.len(), sum.finish())
+        s.push('\n');
+        self.sum.write(s.as_bytes());
+        self.count += 1;
+        self.out.write_all(s.as_bytes())
+    }
+
+    /// Draws written so far.
+    pub fn count(&self) -> usize {
+        self.count
+    }
+
+    /// Writes the trailer.
+    pub fn end(self) -> std::io::Result<()> {
+        writeln!(
+            self.out,
+            "# end\t{}\t{:016x}",
+            self.count,
+            self.sum.finish()
+        )
     }
 }
 
@@ -476,9 +523,9 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
     Ok(out)
 }
 
-/// Everything but the shard and the draws must agree between parts: the
-/// first setting that differs, as "name a vs b", or `None`.
-fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
+/// Everything but the shard and the draws must agree between parts of one
+/// run: the first setting that differs, as "name a vs b", or `None`.
+pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
     fn d<T: std::fmt::Debug + PartialEq>(name: &str, x: T, y: T) -> Option<String> {
         (x != y).then(|| format!("{name} {x:?} vs {y:?}"))
     }

@@ -63,6 +63,7 @@ use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
 use crate::network::{Network, Weight};
 
+pub mod accumulate;
 mod binary;
 mod curveball;
 pub mod draws_file;
@@ -70,11 +71,12 @@ mod patefield;
 pub mod run;
 mod weighted;
 
+pub use accumulate::{DrawSummaries, Histogram};
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
-pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun};
+pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
 pub use patefield::FixedTotals;
-pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
+pub use run::{run_null, run_null_streaming, run_null_with_progress, NullConfig, NullRun, Shard};
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
 /// The null models, named as on the command line.

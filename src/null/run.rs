@@ -310,6 +310,72 @@ fn run_inner<T: Weight>(
     config: &NullConfig,
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<NullRun> {
+    let mut draw_ids = Vec::new();
+    let mut values = Vec::new();
+    let mut head = run_streaming(net, config, 0, progress, &mut |_, k, v| {
+        draw_ids.push(k);
+        values.push(v.to_vec());
+        Ok(true)
+    })?;
+    head.draw_ids = draw_ids;
+    head.values = values;
+    Ok(head)
+}
+
+/// The receiver of a streamed run's draws: `(run without draws, k, values)`,
+/// returning false to stop.
+pub type DrawSink<'a> = dyn FnMut(&NullRun, u64, &[f64]) -> Result<bool> + Send + 'a;
+
+/// Runs a null-model test like [`run_null_with_progress`] but hands each
+/// draw to `sink(head, k, values)` in draw order instead of keeping it
+/// (`head` is the run without draws, with its observed values); `sink`
+/// returns false to stop the run early (an interrupted run: the draws
+/// handed so far are exactly draws `k` of the run, in order). Draws
+/// numbered below `start` are skipped (a resumed run: they were saved
+/// before; not with a sequential stop, whose count would miss them).
+/// Returns the run without draws. Memory: one batch of draws, not `O(R)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{index::IndexKind, null::*, Network};
+/// let net = Network::from_array(array![[1, 1, 0], [1, 0, 1], [0, 1, 0]]).unwrap();
+/// let config = NullConfig::new(NullModel::FixedRows, vec![IndexKind::Nodf], 20, 5);
+/// let whole = run_null(&net, &config).unwrap();
+/// let mut got = Vec::new();
+/// run_null_streaming(&net, &config, 12, &|_| {}, &mut |_, k, v| {
+///     got.push((k, v[0]));
+///     Ok(true)
+/// })
+/// .unwrap();
+/// assert_eq!(got[0], (12, whole.values[12][0]));
+/// assert_eq!(got.len(), 8);
+/// ```
+pub fn run_null_streaming<T: Weight>(
+    net: &Network<T>,
+    config: &NullConfig,
+    start: u64,
+    progress: &(dyn Fn(usize) + Sync),
+    sink: &mut DrawSink<'_>,
+) -> Result<NullRun> {
+    config.check()?;
+    match config.threads {
+        Some(t) => rayon::ThreadPoolBuilder::new()
+            .num_threads(t)
+            .build()
+            .map_err(|e| Error::InvalidArgument(format!("cannot start {t} threads: {e}")))?
+            .install(|| run_streaming(net, config, start, progress, sink)),
+        None => run_streaming(net, config, start, progress, sink),
+    }
+}
+
+fn run_streaming<T: Weight>(
+    net: &Network<T>,
+    config: &NullConfig,
+    start: u64,
+    progress: &(dyn Fn(usize) + Sync),
+    sink: &mut DrawSink<'_>,
+) -> Result<NullRun> {
     let sampler = NullSampler::new(net, config.model, &config.options)?;
     let opts = IndexOptions {
         order: config.order,
@@ -347,32 +413,7 @@ fn run_inner<T: Weight>(
             }
         }
     };
-    let ids: Vec<u64> = (0..config.draws as u64)
-        .filter(|&k| config.shard.is_none_or(|s| s.contains(k)))
-        .collect();
-    let mut draw_ids = Vec::with_capacity(ids.len());
-    let mut values = Vec::with_capacity(ids.len());
-    let mut hits = vec![0usize; config.indices.len()];
-    for batch in ids.chunks(BATCH) {
-        let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
-        for (&k, v) in batch.iter().zip(got) {
-            let v = v?;
-            for (i, kind) in config.indices.iter().enumerate() {
-                if as_extreme(v[i], observed[i], kind.more_nested()) {
-                    hits[i] += 1;
-                }
-            }
-            draw_ids.push(k);
-            values.push(v);
-        }
-        progress(draw_ids.len());
-        if let Some(h) = config.stop_after {
-            if hits.iter().all(|&c| c >= h) {
-                break;
-            }
-        }
-    }
-    Ok(NullRun {
+    let head = NullRun {
         model: config.model,
         indices: config.indices.clone(),
         observed,
@@ -383,7 +424,53 @@ fn run_inner<T: Weight>(
         burn_in: sampler.burn_in(),
         order: config.order,
         shape: (net.nrows(), net.ncols(), net.links()),
-        draw_ids,
-        values,
-    })
+        draw_ids: Vec::new(),
+        values: Vec::new(),
+    };
+    // This run's draw numbers, in order, without a list of them.
+    let (first, step) = match config.shard {
+        Some(s) => ((s.index() - 1) as u64, s.count() as u64),
+        None => (0, 1),
+    };
+    if start > 0 && config.stop_after.is_some() {
+        return Err(Error::InvalidArgument(
+            "a run with a sequential stop cannot be resumed; run it again".into(),
+        ));
+    }
+    let first = if start > first {
+        first + (start - first).div_ceil(step) * step
+    } else {
+        first
+    };
+    let mut ids = (first..config.draws as u64).step_by(step as usize);
+    let mut done = 0usize;
+    let mut hits = vec![0usize; config.indices.len()];
+    let mut batch: Vec<u64> = Vec::with_capacity(BATCH);
+    loop {
+        batch.clear();
+        batch.extend(ids.by_ref().take(BATCH));
+        if batch.is_empty() {
+            break;
+        }
+        let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
+        for (&k, v) in batch.iter().zip(got) {
+            let v = v?;
+            for (i, kind) in config.indices.iter().enumerate() {
+                if as_extreme(v[i], head.observed[i], kind.more_nested()) {
+                    hits[i] += 1;
+                }
+            }
+            done += 1;
+            if !sink(&head, k, &v)? {
+                return Ok(head);
+            }
+        }
+        progress(done);
+        if let Some(h) = config.stop_after {
+            if hits.iter().all(|&c| c >= h) {
+                break;
+            }
+        }
+    }
+    Ok(head)
 }
