@@ -24,8 +24,10 @@ pub struct MeasureArgs {
     order: Order,
     #[command(flatten)]
     input: LayoutArgs,
-    /// Indices to compute, comma-separated: nodf, wnodf, temperature, spectral, discrepancy (default: all).
-    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>)]
+    /// Index families to compute (the list comes from the registry of indices).
+    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>,
+          help = format!("Indices to compute, comma-separated: {} (default: all)",
+                         nidus::metrics::registry::families().join(", ")))]
     indices: Option<List<Family>>,
     /// Temperature: random starts of the packing search besides the degree-sorted one.
     #[arg(long, default_value_t = TemperatureOptions::default().restarts, value_name = "N")]

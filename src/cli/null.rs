@@ -36,10 +36,10 @@ pub struct NullArgs {
     /// fixed-both, shuffle-cells, shuffle-weights, fixed-totals.
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
-    /// Indices to test, comma-separated: nodf, nodf-rows, nodf-cols, wnodf, temperature,
-    /// temperature-sorted, spectral, spectral-weighted, discrepancy (= discrepancy-rows-stable),
-    /// discrepancy-rows-minimum, discrepancy-cols-stable, discrepancy-cols-minimum.
-    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
+    /// Indices to test (the list comes from the registry of indices).
+    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
+          help = format!("Indices to test, comma-separated: {}",
+                         nidus::metrics::registry::help_list()))]
     index: List<IndexKind>,
     /// Number of null draws R.
     #[arg(long, default_value_t = 999, value_name = "R")]
