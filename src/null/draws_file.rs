@@ -19,6 +19,7 @@
 //! # burn_in  1000
 //! # order  sorted
 //! # shape  200  200  4000
+//! # network  5d1c0a8f3b2e4c71
 //! # indices  nodf  nodf-rows
 //! # observed  23.408163265306122  21.5
 //! draw  nodf  nodf-rows
@@ -28,7 +29,9 @@
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or
-//! `none`; `shape` is rows, columns and links of the observed network.
+//! `none`; `shape` is rows, columns and links of the observed network;
+//! `network` its content fingerprint ([`fingerprint`]), by which `merge`
+//! matches the parts of one run (not by the file's name as spelled).
 //! Numbers are written in Rust's shortest round-trip form, so reading gives
 //! back the same `f64` bits and a merge prints the same bytes as the
 //! unsplit run.
@@ -94,6 +97,42 @@ impl Fnv1a {
     pub fn finish(self) -> u64 {
         self.0
     }
+}
+
+/// The content fingerprint of a network: 64-bit FNV-1a over its
+/// dimensions, its row and column labels and its links (row, column and the
+/// weight's bits), in storage order. Two files with the same table give the
+/// same fingerprint however their paths are spelled.
+///
+/// Cost: `O(m + n + links)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{null::draws_file::fingerprint, Network};
+/// let a = Network::from_array(array![[1, 0], [1, 1]]).unwrap();
+/// let b = Network::from_array(array![[1, 0], [1, 2]]).unwrap();
+/// assert_eq!(fingerprint(&a), fingerprint(&a.clone()));
+/// assert_ne!(fingerprint(&a), fingerprint(&b));
+/// ```
+pub fn fingerprint<T: crate::storage::Weight>(net: &crate::storage::Network<T>) -> u64 {
+    let mut h = Fnv1a::default();
+    h.write(&(net.nrows() as u64).to_le_bytes());
+    h.write(&(net.ncols() as u64).to_le_bytes());
+    for l in net.row_labels().iter().chain(net.col_labels()) {
+        h.write(&(l.len() as u64).to_le_bytes());
+        h.write(l.as_bytes());
+    }
+    let csr = net.csr();
+    for i in 0..net.nrows() {
+        let (cols, vals) = csr.row(i);
+        for (&j, w) in cols.iter().zip(vals) {
+            h.write(&(i as u64).to_le_bytes());
+            h.write(&j.to_le_bytes());
+            h.write(&w.as_f64().to_bits().to_le_bytes());
+        }
+    }
+    h.finish()
 }
 
 /// Whether `v` is a value index `kind` can take: finite, not negative, and
@@ -165,6 +204,7 @@ impl<'w, W: Write> SectionWriter<'w, W> {
         s.push_str(&format!("# order\t{}\n", run.order));
         let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
+        s.push_str(&format!("# network\t{:016x}\n", run.network));
         s.push_str(&format!("# indices\t{}\n", names.join("\t")));
         let obs: Vec<String> = run.observed.iter().map(|v| format!("{v:?}")).collect();
         s.push_str(&format!("# observed\t{}\n", obs.join("\t")));
@@ -389,6 +429,11 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
             parse_num(&l, no, 3, shape[1], "column count")?,
             parse_num(&l, no, 4, shape[2], "link count")?,
         );
+        let (no, net) = l.one("network")?;
+        let network = match u64::from_str_radix(net, 16) {
+            Ok(v) if net.len() == 16 => v,
+            _ => return Err(l.err(no, Some(2), "'# network' needs a 16-digit hex fingerprint")),
+        };
         let (no, names) = l.header("indices")?;
         let indices: Vec<IndexKind> = names
             .iter()
@@ -515,6 +560,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
                 burn_in,
                 order,
                 shape,
+                network,
                 draw_ids,
                 values,
             },
@@ -545,6 +591,14 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
         .or_else(|| d("burn_in", a.burn_in, b.burn_in))
         .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
         .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
+        .or_else(|| {
+            (a.network != b.network).then(|| {
+                format!(
+                    "network content {:016x} vs {:016x} (the network files differ)",
+                    a.network, b.network
+                )
+            })
+        })
         .or_else(|| {
             d(
                 "observed values (the network files differ)",
@@ -597,18 +651,35 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
                 .into(),
         ));
     }
-    let mut order: Vec<(String, NullModel)> = Vec::new();
-    let mut groups: HashMap<(String, NullModel), Vec<NullRun>> = HashMap::new();
+    // Parts are grouped by network content and model; the label shown is
+    // the first part's.
+    let mut order: Vec<(u64, NullModel)> = Vec::new();
+    let mut labels: HashMap<(u64, NullModel), String> = HashMap::new();
+    let mut groups: HashMap<(u64, NullModel), Vec<NullRun>> = HashMap::new();
     for p in parts {
-        let key = (p.file.clone(), p.run.model);
+        let key = (p.run.network, p.run.model);
         if !groups.contains_key(&key) {
-            order.push(key.clone());
+            order.push(key);
+            labels.insert(key, p.file.clone());
         }
         groups.entry(key).or_default().push(p.run);
     }
     let mut out = Vec::with_capacity(order.len());
     for key in order {
         let runs = groups.remove(&key).expect("grouped");
+        let label = labels[&key].clone();
+        // Another group with the same name and model: a part of another network.
+        let clash = labels
+            .iter()
+            .any(|(k, l)| *k != key && k.1 == key.1 && *l == label);
+        if clash {
+            return Err(Error::InvalidArgument(format!(
+                "{label} / {}: the parts come from different runs: the network content differs \
+                 between parts with this name (the file changed between shards?)",
+                key.1.name()
+            )));
+        }
+        let key = (label, key.1);
         let what = format!("{} / {}", key.0, key.1.name());
         let first = &runs[0];
         if let Some(diff) = runs.iter().find_map(|r| differing_setting(first, r)) {

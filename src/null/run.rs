@@ -234,6 +234,10 @@ pub struct NullRun {
     pub order: Order,
     /// Rows, columns and links of the observed network.
     pub shape: (usize, usize, usize),
+    /// Content fingerprint of the observed network
+    /// ([`crate::null::draws_file::fingerprint`]): parts of one run are
+    /// matched by it, not by how the file's name was spelled.
+    pub network: u64,
     /// Indices `k` of the draws computed, ascending.
     pub draw_ids: Vec<u64>,
     /// `values[t][i]`: index `i` on draw `draw_ids[t]`.
@@ -659,6 +663,7 @@ fn run_inner<T: Weight>(
         burn_in: sampler.burn_in(),
         order: config.order,
         shape: (net.nrows(), net.ncols(), net.links()),
+        network: crate::null::draws_file::fingerprint(net),
         draw_ids: run.draw_ids,
         values: run.values,
     })
@@ -708,6 +713,7 @@ pub fn run_null_streaming<T: Weight>(
         let stats: Vec<_> = config.indices.iter().map(|k| k.statistic(opts)).collect();
         let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
         let options = config.run_options();
+        let network = crate::null::draws_file::fingerprint(net);
         let make_head = |observed: &[f64]| NullRun {
             model: config.model,
             indices: config.indices.clone(),
@@ -719,6 +725,7 @@ pub fn run_null_streaming<T: Weight>(
             burn_in: sampler.burn_in(),
             order: config.order,
             shape: (net.nrows(), net.ncols(), net.links()),
+            network,
             draw_ids: Vec::new(),
             values: Vec::new(),
         };
