@@ -162,7 +162,11 @@ fn save_draws_never_destroys_an_input_or_a_good_part() {
     let left: Vec<_> = std::fs::read_dir(part.parent().unwrap())
         .unwrap()
         .filter_map(|e| e.ok())
-        .filter(|e| e.file_name().to_string_lossy().starts_with(".good.part.tsv.nidus-partial"))
+        .filter(|e| {
+            e.file_name()
+                .to_string_lossy()
+                .starts_with(".good.part.tsv.nidus-partial")
+        })
         .collect();
     assert!(left.is_empty(), "{left:?}");
 }
@@ -746,4 +750,30 @@ fn parts_are_matched_by_content_not_spelling() {
         "{}",
         stderr(&o)
     );
+}
+
+/// Reproducer 9: "Temperature packing allocates max(m, n)^2 and takes
+/// max(m, n)^3: a 1 x 100,000 table aborts on an 80 GB allocation." The
+/// packing search is refused above its side limit, quickly and without the
+/// allocation; the sorted order is still available.
+#[test]
+fn temperature_packing_is_capped_on_the_assignment_side() {
+    use nidus::metrics::temperature::{temperature, TemperatureOptions, PACKING_SIDE_LIMIT};
+    let n = 100_000;
+    let row: Vec<u8> = (0..n).map(|j| u8::from(j % 3 != 1)).collect();
+    let net =
+        nidus::Network::from_array(ndarray::Array2::from_shape_vec((1, n), row).unwrap()).unwrap();
+    let t0 = std::time::Instant::now();
+    let e = temperature(&net, &TemperatureOptions::default()).unwrap_err();
+    assert!(e.to_string().contains("packing"), "{e}");
+    assert!(
+        t0.elapsed().as_secs() < 30,
+        "a guard against the old minutes, not a timing test"
+    );
+    let opts = TemperatureOptions {
+        pack: false,
+        ..TemperatureOptions::default()
+    };
+    assert!(temperature(&net, &opts).is_ok());
+    assert!(PACKING_SIDE_LIMIT < n);
 }
