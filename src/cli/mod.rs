@@ -18,6 +18,7 @@ mod null;
 mod report;
 mod sample;
 mod signals;
+mod species;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
@@ -61,6 +62,8 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
+    Species(species::SpeciesArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -107,6 +110,7 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Species(args) => species::run(args),
     };
     let code = match result {
         Ok(code) => code,
