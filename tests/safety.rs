@@ -770,10 +770,7 @@ fn temperature_packing_is_capped_on_the_assignment_side() {
         t0.elapsed().as_secs() < 30,
         "a guard against the old minutes, not a timing test"
     );
-    let opts = TemperatureOptions {
-        pack: false,
-        ..TemperatureOptions::default()
-    };
+    let opts = TemperatureOptions::default().with_pack(false);
     assert!(temperature(&net, &opts).is_ok());
     assert!(PACKING_SIDE_LIMIT < n);
 }

@@ -360,11 +360,10 @@ fn idiosyncratic_temperatures_average_to_t() {
         let tol = 1e-9 * (1.0 + t);
         assert!((rows.iter().sum::<f64>() / m as f64 - t).abs() < tol);
         assert!((cols.iter().sum::<f64>() / n as f64 - t).abs() < tol);
-        let opts = TemperatureOptions {
-            pack: true,
-            restarts: 2,
-            seed: 9,
-        };
+        let opts = TemperatureOptions::default()
+            .with_pack(true)
+            .with_restarts(2)
+            .with_seed(9);
         let full = temperature(&net, &opts).unwrap().packed.unwrap();
         assert!((full - t).abs() < tol, "{full} vs {t}");
     }

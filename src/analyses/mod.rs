@@ -2,3 +2,5 @@
 //! network nested, how index and null model behave on networks like the
 //! user's, and whether the sampling effort was enough. One file each.
 pub mod species;
+
+pub mod effort;

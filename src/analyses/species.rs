@@ -33,17 +33,18 @@ pub mod engine;
 pub use engine::{NodfEngine, Scratch, Side, OVERLAP_TABLE_LIMIT};
 
 /// How a species' cells are re-drawn for its contribution.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum RedrawModel {
     /// `proportional`: each cell of the species present independently with
     /// the probability of Bascompte et al. (2003, PNAS 100:9383-9387),
     /// `(d_i / n + d_j / m) / 2` with the observed degrees (the default).
     #[default]
-    #[serde(rename = "proportional")]
+    #[cfg_attr(feature = "serde", serde(rename = "proportional"))]
     Proportional,
     /// `keep-degree`: the species keeps its degree; its links go to a
     /// uniformly random set of partners on the other side.
-    #[serde(rename = "keep-degree")]
+    #[cfg_attr(feature = "serde", serde(rename = "keep-degree"))]
     KeepDegree,
 }
 
@@ -74,7 +75,8 @@ impl FromStr for RedrawModel {
 }
 
 /// Settings of [`species_contributions`].
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpeciesOptions {
     /// How a species' cells are re-drawn (default `proportional`).
     pub model: RedrawModel,
@@ -104,22 +106,23 @@ impl Default for SpeciesOptions {
 }
 
 /// The plain-words role of a species (rule at [`Role::of`]).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum Role {
     /// A generalist (degree above its side's median) that does not break
     /// the pattern.
-    #[serde(rename = "core")]
+    #[cfg_attr(feature = "serde", serde(rename = "core"))]
     Core,
     /// A species of median degree or less that does not break the pattern:
     /// its partners sit inside those of the generalists.
-    #[serde(rename = "nested inside")]
+    #[cfg_attr(feature = "serde", serde(rename = "nested inside"))]
     NestedInside,
     /// Contribution `<= -2`: the network is clearly less nested with this
     /// species' observed links than with re-drawn ones.
-    #[serde(rename = "breaks the pattern")]
+    #[cfg_attr(feature = "serde", serde(rename = "breaks the pattern"))]
     BreaksPattern,
     /// No links: no contribution is defined.
-    #[serde(rename = "no links")]
+    #[cfg_attr(feature = "serde", serde(rename = "no links"))]
     NoLinks,
 }
 
@@ -156,7 +159,8 @@ impl Role {
 }
 
 /// Mean and standard deviation of one species' re-drawn NODF values.
-#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Redraws {
     /// Mean of `N*_i`.
     pub mean: f64,
@@ -167,7 +171,8 @@ pub struct Redraws {
 }
 
 /// One species' row of the table.
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpeciesRecord {
     /// `row` or `col`.
     pub side: Side,
@@ -199,7 +204,8 @@ pub struct SpeciesRecord {
 }
 
 /// The species table of one network.
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpeciesAnalysis {
     /// Observed NODF (sorted order).
     pub nodf: f64,
@@ -699,7 +705,8 @@ pub fn idiosyncratic_temperatures(
 }
 
 /// Per-species temperatures of [`idiosyncratic_temperatures`].
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct IdiosyncraticTemperatures {
     /// One value per row, in input order.
     pub rows: Vec<f64>,

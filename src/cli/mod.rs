@@ -12,6 +12,8 @@ use std::path::Path;
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
 mod atomic;
+mod effort;
+mod flat;
 mod measure;
 mod merge;
 mod null;
@@ -64,6 +66,8 @@ enum Command {
     Sample(sample::SampleArgs),
     /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
     Species(species::SpeciesArgs),
+    /// Rarefy a visit-count network: is it sampled enough for its nestedness to mean anything?
+    Effort(effort::EffortArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -111,6 +115,7 @@ pub fn main() -> ExitCode {
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
         Command::Species(args) => species::run(args),
+        Command::Effort(args) => effort::run(args),
     };
     let code = match result {
         Ok(code) => code,

@@ -10,21 +10,22 @@ use std::time::{Duration, Instant};
 
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
+use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
     draws_file::{differing_setting, MAX_DRAWS},
     read_draws, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun,
     SavedRun, SectionWriter, Shard,
 };
-use nidus::significance::NullSummary;
+use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
-use serde_json::{Map, Value};
+use serde_json::Value;
 
 use super::atomic::{refuse_input_as_target, AtomicFile};
 pub use super::emit;
+use super::flat::FlatTable;
 use super::{
-    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
-    EXIT_INPUT,
+    input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
 };
 
 #[derive(Args, Debug)]
@@ -74,32 +75,67 @@ pub struct NullArgs {
     format: Format,
 }
 
-const CSV_COLUMNS: &[&str] = &[
-    "file",
-    "index",
-    "model",
-    "draws",
-    "seed",
-    "observed",
-    "mean",
-    "sd",
-    "z",
-    "p_greater",
-    "p_less",
-    "q025",
-    "q50",
-    "q975",
-    "more_nested",
-    "stopped_early",
-];
+/// One JSON line or CSV row of a null test: the run's identity, then the
+/// fields of [`NullSummary`] as serde writes them. `draws` is placed with
+/// the identity; the summary's own `draws` (the same number) fills that
+/// place when the line is turned into a JSON map (keys keep their first
+/// position), so it appears once.
+#[derive(serde::Serialize)]
+struct NullLine<'a> {
+    file: &'a str,
+    index: IndexKind,
+    model: NullModel,
+    draws: usize,
+    seed: u64,
+    #[serde(flatten)]
+    summary: &'a NullSummary,
+}
+
+fn line(
+    file: &str,
+    (model, seed): (NullModel, u64),
+    index: IndexKind,
+    summary: &NullSummary,
+) -> nidus::Result<Value> {
+    let line = NullLine {
+        file,
+        index,
+        model,
+        draws: summary.draws,
+        seed,
+        summary,
+    };
+    serde_json::to_value(line)
+        .map_err(|e| Error::InvalidArgument(format!("cannot write the result: {e}")))
+}
+
+/// The CSV columns: those of a line with every field present.
+fn csv_table() -> nidus::Result<FlatTable> {
+    let summary = summarize(1.0, &[0.0, 2.0], Direction::Greater, None)?;
+    Ok(FlatTable::new(line(
+        "",
+        (NullModel::Equiprobable, 0),
+        IndexKind::named("nodf")?,
+        &summary,
+    )?))
+}
 
 /// The CSV header line, for formats that have one.
-pub fn header(format: Format) -> Option<String> {
-    (format == Format::Csv).then(|| CSV_COLUMNS.join(",") + "\n")
+pub fn header(format: Format) -> nidus::Result<Option<String>> {
+    Ok(if format == Format::Csv {
+        Some(csv_table()?.header())
+    } else {
+        None
+    })
 }
 
 /// The output for one run (one file and one model, every index).
-pub fn render(format: Format, file: &str, run: &NullRun, summaries: &[NullSummary]) -> String {
+pub fn render(
+    format: Format,
+    file: &str,
+    run: &NullRun,
+    summaries: &[NullSummary],
+) -> nidus::Result<String> {
     let mut s = String::new();
     if format == Format::Text {
         s += &format!(
@@ -124,68 +160,22 @@ pub fn render(format: Format, file: &str, run: &NullRun, summaries: &[NullSummar
             "draws"
         );
     }
+    let csv = if format == Format::Csv {
+        Some(csv_table()?)
+    } else {
+        None
+    };
     for (kind, sum) in run.indices.iter().zip(summaries) {
-        match format {
-            Format::Json => s += &(json(file, run, *kind, sum).to_string() + "\n"),
-            Format::Csv => s += &csv(file, run, *kind, sum),
-            Format::Text => s += &text(*kind, sum),
+        match (format, &csv) {
+            (Format::Text, _) => s += &text(*kind, sum),
+            (Format::Csv, Some(t)) => s += &t.row(&line(file, (run.model, run.seed), *kind, sum)?),
+            _ => s += &(line(file, (run.model, run.seed), *kind, sum)?.to_string() + "\n"),
         }
     }
     if format == Format::Text {
         s.push('\n');
     }
-    s
-}
-
-fn json(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> Value {
-    let mut o = Map::new();
-    o.insert("file".into(), file.into());
-    o.insert("index".into(), kind.name().into());
-    o.insert("model".into(), run.model.name().into());
-    o.insert("draws".into(), x.draws.into());
-    o.insert("seed".into(), run.seed.into());
-    o.insert("observed".into(), x.observed.into());
-    o.insert("mean".into(), x.mean.into());
-    o.insert("sd".into(), x.sd.into());
-    o.insert("z".into(), x.z.map_or(Value::Null, Value::from));
-    o.insert("p_greater".into(), x.p_greater.into());
-    o.insert("p_less".into(), x.p_less.into());
-    o.insert("q025".into(), x.q025.into());
-    o.insert("q50".into(), x.q50.into());
-    o.insert("q975".into(), x.q975.into());
-    o.insert(
-        "more_nested".into(),
-        serde_json::to_value(x.more_nested).unwrap_or(Value::Null),
-    );
-    o.insert("stopped_early".into(), x.stopped_early.into());
-    Value::Object(o)
-}
-
-fn csv(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> String {
-    let dir = serde_json::to_value(x.more_nested)
-        .ok()
-        .and_then(|v| v.as_str().map(str::to_string))
-        .unwrap_or_default();
-    [
-        csv_field(file),
-        kind.name().to_string(),
-        run.model.name().to_string(),
-        x.draws.to_string(),
-        run.seed.to_string(),
-        x.observed.to_string(),
-        x.mean.to_string(),
-        x.sd.to_string(),
-        x.z.map_or(String::new(), |z| z.to_string()),
-        x.p_greater.to_string(),
-        x.p_less.to_string(),
-        x.q025.to_string(),
-        x.q50.to_string(),
-        x.q975.to_string(),
-        dir,
-        x.stopped_early.to_string(),
-    ]
-    .join(",")
-        + "\n"
+    Ok(s)
 }
 
 fn text(kind: IndexKind, x: &NullSummary) -> String {
@@ -304,29 +294,20 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 .into(),
         ));
     }
-    let binary_models: Vec<&str> = args
+    check_bounds(&args)?;
+    let configs: Vec<NullConfig> = args
         .model
         .0
         .iter()
-        .filter(|m| !m.is_weighted())
-        .map(|m| m.name())
-        .collect();
-    let weighted_indices: Vec<&str> = args
-        .index
-        .0
-        .iter()
-        .filter(|k| k.needs_weights())
-        .map(|k| k.name())
-        .collect();
-    if !binary_models.is_empty() && !weighted_indices.is_empty() {
-        return Err(Error::InvalidArgument(format!(
-            "{} read(s) weights, but {} draw(s) binary matrices: test weighted indices against \
-             shuffle-cells, shuffle-weights or fixed-totals in a separate call",
-            weighted_indices.join(", "),
-            binary_models.join(", ")
-        )));
-    }
-    check_bounds(&args)?;
+        .map(|&model| {
+            let mut config = NullConfig::new(model, args.index.0.clone(), args.draws, args.seed);
+            config.shard = args.shard;
+            config.stop_after = args.stop_after;
+            config.order = args.order;
+            config.options = NullOptions::new(args.burn_in);
+            config.check().map(|()| config)
+        })
+        .collect::<nidus::Result<_>>()?;
     if args.burn_in.is_some() && !args.model.0.contains(&NullModel::FixedBoth) {
         eprintln!(
             "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
@@ -346,7 +327,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     let stdout = io::stdout();
     let mut out = stdout.lock();
     if args.shard.is_none() {
-        if let Some(h) = header(args.format) {
+        if let Some(h) = header(args.format)? {
             if !emit(&mut out, &h) {
                 return Ok(ExitCode::SUCCESS);
             }
@@ -372,14 +353,8 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 continue;
             }
         };
-        for &model in &args.model.0 {
-            let mut config = NullConfig::new(model, args.index.0.clone(), args.draws, args.seed);
-            config.shard = args.shard;
-            config.stop_after = args.stop_after;
-            config.order = args.order;
-            config.options = NullOptions {
-                burn_in: args.burn_in,
-            };
+        for config in &configs {
+            let model = config.model;
             let share = match args.shard {
                 Some(s) => (args.draws + s.count() - s.index()) / s.count(),
                 None => args.draws,
@@ -422,7 +397,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             };
             let result = run_null_streaming(
                 &net,
-                &config,
+                config,
                 start,
                 &|done| progress.update(done),
                 &mut sink,
@@ -483,7 +458,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 let text = match acc.summaries() {
                     Ok(sums) => {
                         let head = run_head.as_ref().expect("set with the first draw");
-                        render(args.format, &shown, head, &sums)
+                        render(args.format, &shown, head, &sums)?
                     }
                     Err(e) => {
                         // One run that cannot be summarised does not stop the others.

@@ -145,7 +145,8 @@ fn possible(kind: IndexKind, v: f64) -> bool {
 }
 
 /// A run read from a saved-draws file, with the label of its network file.
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SavedRun {
     /// The network file the run tested, as given on the command line.
     pub file: String,
@@ -161,12 +162,23 @@ impl NullRun {
     /// Writes this run as one section of a saved-draws file (format in
     /// [`crate::null::draws_file`]). `file` is the network file's label; it
     /// must not contain a tab or a line break.
-    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> std::io::Result<()> {
-        let mut w = SectionWriter::begin(self, file, out)?;
-        for (k, vals) in self.draw_ids.iter().zip(&self.values) {
-            w.draw(*k, vals)?;
+    ///
+    /// Errors: [`Error::InvalidArgument`] for such a name, [`Error::Output`]
+    /// when the writer fails.
+    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> Result<()> {
+        if file.contains(['\t', '\n', '\r']) {
+            return Err(Error::InvalidArgument(format!(
+                "the file name {file:?} holds a tab or line break; it cannot be saved"
+            )));
         }
-        w.end()
+        let mut write = || -> std::io::Result<()> {
+            let mut w = SectionWriter::begin(self, file, out)?;
+            for (k, vals) in self.draw_ids.iter().zip(&self.values) {
+                w.draw(*k, vals)?;
+            }
+            w.end()
+        };
+        write().map_err(|source| Error::Output { source })
     }
 }
 

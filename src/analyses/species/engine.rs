@@ -59,13 +59,14 @@ use crate::metrics::{nodf::upper_overlaps, Order, Parts};
 pub const OVERLAP_TABLE_LIMIT: usize = 1 << 24;
 
 /// Which side a species belongs to.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum Side {
     /// A row species (for example a plant).
-    #[serde(rename = "row")]
+    #[cfg_attr(feature = "serde", serde(rename = "row"))]
     Row,
     /// A column species (for example a visitor).
-    #[serde(rename = "col")]
+    #[cfg_attr(feature = "serde", serde(rename = "col"))]
     Col,
 }
 
