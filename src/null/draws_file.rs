@@ -277,12 +277,15 @@ struct Lines<'a> {
     lines: std::iter::Peekable<std::iter::Enumerate<std::str::Lines<'a>>>,
     /// Checksum of the current section's lines so far.
     sum: Fnv1a,
+    /// Number of the last line read (1-based; 0 before any).
+    last: usize,
 }
 
 impl<'a> Lines<'a> {
     /// The next line (1-based number), added to the section's checksum.
     fn next_line(&mut self) -> Option<(usize, &'a str)> {
         let (no, line) = self.lines.next()?;
+        self.last = no + 1;
         self.sum.write(line.as_bytes());
         self.sum.write(b"\n");
         Some((no + 1, line))
@@ -373,6 +376,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         path: source,
         lines: text.lines().enumerate().peekable(),
         sum: Fnv1a::default(),
+        last: 0,
     };
     let mut out = Vec::new();
     while l.lines.peek().is_some() {
@@ -485,7 +489,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
             let before = l.sum;
             let Some((no, line)) = l.next_line() else {
                 return Err(l.err(
-                    0,
+                    l.last,
                     None,
                     format!(
                         "the section of {file} ({model}) ends without its '# end' trailer: \
