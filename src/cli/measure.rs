@@ -40,6 +40,9 @@ pub struct MeasureArgs {
     format: Format,
 }
 
+/// The most random starts of the temperature packing search accepted.
+pub const MAX_RESTARTS: usize = 10_000;
+
 /// The command line's advice on a library error: a network too large for
 /// a dense table (which only temperature needs) names the option that
 /// leaves temperature out.
@@ -53,6 +56,12 @@ fn advise(e: Error, temperature: bool) -> Error {
 }
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
+    if args.restarts > MAX_RESTARTS {
+        return Err(nidus::Error::InvalidArgument(format!(
+            "--restarts {}: at most {MAX_RESTARTS} random starts (each is a full packing search)",
+            args.restarts
+        )));
+    }
     let read = args.input.read_options();
     super::check_stdin_once(&args.files)?;
     let opts = MeasureOptions::new(

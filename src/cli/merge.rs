@@ -56,7 +56,7 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
         let runs = merge_runs(parts)?;
         let mut text = header(args.format)?.unwrap_or_default();
         for r in &runs {
-            text += &render(args.format, &r.file, &r.run)?;
+            text += &render(args.format, &r.file, &r.run, &r.run.summaries()?)?;
         }
         text
     };
