@@ -58,6 +58,9 @@ pub struct MeasureArgs {
     format: Format,
 }
 
+/// The most random starts of the temperature packing search accepted.
+pub const MAX_RESTARTS: usize = 10_000;
+
 /// An index the user named in `--index` that could not be computed
 /// fails the file (exit 2); with the default set it is reported as not
 /// computed and the others stand. WNODF of a binary network is not a
@@ -79,6 +82,12 @@ fn explicit_failure(m: &Measurement, asked: &[Family]) -> Option<Error> {
 }
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
+    if args.restarts > MAX_RESTARTS {
+        return Err(nidus::Error::InvalidArgument(format!(
+            "--restarts {}: at most {MAX_RESTARTS} random starts (each is a full packing search)",
+            args.restarts
+        )));
+    }
     let read = args.input.read_options();
     super::check_stdin_once(&args.files)?;
     let explicit: Vec<Family> = args.indices.as_ref().map_or_else(Vec::new, |l| l.0.clone());

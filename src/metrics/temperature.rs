@@ -62,6 +62,12 @@ pub const TEMPERATURE_CELL_LIMIT: usize = 1 << 24;
 /// with `K = max(m, n)`: roughly 0.1 s of work.
 pub const EXACT_WORK_LIMIT: f64 = 5e7;
 
+/// Largest side (rows or columns) whose order the packing search finds:
+/// each step solves a `k x k` assignment (`8 k^2` bytes, `O(k^3)` time at
+/// worst) for a side of `k` members, so a 1 x 100,000 table would need an
+/// 80 GB table. Above it packing is refused (use the sorted order).
+pub const PACKING_SIDE_LIMIT: usize = 2000;
+
 /// Rounds of the alternating search from one start are capped here (each
 /// accepted round lowers `T`, so in practice it stops long before).
 const MAX_ROUNDS: usize = 1000;
@@ -600,6 +606,16 @@ pub fn temperature_with_table(
     let sorted_total = table.total(b, &sorted_rows, &sorted_cols);
     let sorted = table.to_t(sorted_total);
     let (packed, row_order, col_order) = if opts.pack {
+        if m.max(n) > PACKING_SIDE_LIMIT {
+            let k = m.max(n);
+            return Err(Error::TooLarge {
+                what: "temperature's packing search (an assignment over the larger side; \
+                       temperature-sorted or --no-packing avoid it)",
+                rows: k,
+                cols: k,
+                bytes: 8 * (k as u128) * (k as u128),
+            });
+        }
         let best = pack(
             b,
             table,

@@ -73,6 +73,7 @@ use crate::error::{Error, Result};
 use crate::metrics::Statistic;
 use crate::storage::{BitMatrix, Csr, Layout, NetView, Network, Weight};
 
+pub mod accumulate;
 mod binary;
 mod curveball;
 pub mod draws_file;
@@ -80,13 +81,14 @@ mod patefield;
 pub mod run;
 mod weighted;
 
+pub use accumulate::{DrawSummaries, Histogram};
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
-pub use draws_file::{merge_runs, parse_draws, read_draws, SavedRun};
+pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
 pub use patefield::FixedTotals;
 pub use run::{
-    run_null, run_null_with_progress, run_test, run_test_with_progress, NullConfig, NullRun,
-    RunOptions, Shard, TestRun,
+    run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
+    DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
 };
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
@@ -343,8 +345,9 @@ enum Inner {
 impl NullSampler {
     /// Validates `net` for `model` (see each model's `new`) and prepares it.
     ///
-    /// Errors: a network too large for a dense table, or non-integer weights
-    /// for `fixed-totals`.
+    /// Errors: a network too large for a dense table, non-integer weights
+    /// for `fixed-totals`, or a `fixed-both` burn-in below the default
+    /// `5 * max(m, n)` (the least METHODS.md §6 allows).
     pub fn new<T: Weight>(
         net: &Network<T>,
         model: NullModel,
@@ -357,9 +360,18 @@ impl NullSampler {
             NullModel::FixedColumns => Inner::FixedColumns(FixedColumns::new(net)?),
             NullModel::FixedBoth => {
                 let start = CurveballChain::new(&net.binary()?);
-                let burn_in = options
-                    .burn_in
-                    .unwrap_or_else(|| CurveballChain::default_burn_in(net.nrows(), net.ncols()));
+                let least = CurveballChain::default_burn_in(net.nrows(), net.ncols());
+                let burn_in = options.burn_in.unwrap_or(least);
+                if burn_in < least {
+                    // Below it a draw stays close to the observed matrix
+                    // (burn-in 0 returns it unchanged): METHODS.md §6.
+                    return Err(Error::InvalidArgument(format!(
+                        "--burn-in {burn_in}: fixed-both needs at least 5 * max(rows, columns) \
+                         = {least} curveball trades per draw on this {} x {} network",
+                        net.nrows(),
+                        net.ncols()
+                    )));
+                }
                 Inner::FixedBoth(BurnIn::new(start, burn_in))
             }
             NullModel::ShuffleCells => Inner::ShuffleCells(ShuffleCells::new(net)?),
