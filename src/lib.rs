@@ -20,6 +20,8 @@ pub mod analyses;
 pub mod assign;
 pub mod bits;
 pub mod error;
+#[cfg(feature = "figures")]
+pub mod figures;
 pub mod index;
 pub mod io;
 pub mod kernels;
