@@ -10,6 +10,7 @@ use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
 use nidus::Order;
 
+use super::figure::{figure_paths, MatrixFigureArgs};
 use super::report::Table;
 use super::{emit, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
 
@@ -35,6 +36,8 @@ pub struct MeasureArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    #[command(flatten)]
+    figure: MatrixFigureArgs,
 }
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
@@ -49,6 +52,10 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         },
     };
     let table = Table::new(args.format, &opts);
+    let svg_paths = match &args.figure.svg {
+        Some(base) => Some(figure_paths(base, &args.files)?),
+        None => None,
+    };
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
@@ -57,9 +64,14 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             return Ok(ExitCode::SUCCESS);
         }
     }
-    for file in &args.files {
+    for (k, file) in args.files.iter().enumerate() {
         let result = read_network(file, &read).and_then(|net| {
             let m = measure(&net, &opts)?;
+            if let Some(paths) = &svg_paths {
+                let fig = nidus::figures::matrix_figure(&net, &m, &args.figure.options(file)?)?;
+                fig.save(&paths[k])?;
+                eprintln!("nidus: figure written to {}", paths[k].display());
+            }
             Ok(table.record(
                 &file.display().to_string(),
                 &m,

@@ -8,6 +8,7 @@ use std::io::{self, Write};
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use nidus::io::{EdgeHeader, Layout, ReadOptions};
 
+mod figure;
 mod measure;
 mod merge;
 mod null;

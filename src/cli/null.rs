@@ -8,6 +8,7 @@ use std::process::ExitCode;
 
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
+use nidus::figures::{null_figure, NullPanel};
 use nidus::index::IndexKind;
 use nidus::io::read_network;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
@@ -58,6 +59,10 @@ pub struct NullArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Write a figure of each file's null distributions (one panel per index and model) as SVG
+    /// to PATH (with several files: PATH's name with each file's name inserted).
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 const CSV_COLUMNS: &[&str] = &[
@@ -242,6 +247,16 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             binary_models.join(", ")
         )));
     }
+    if args.shard.is_some() && args.svg.is_some() {
+        return Err(Error::InvalidArgument(
+            "--svg needs every draw: draw the figure from the unsplit run (a shard holds only part of the draws)"
+                .into(),
+        ));
+    }
+    let svg_paths = match &args.svg {
+        Some(base) => Some(super::figure::figure_paths(base, &args.files)?),
+        None => None,
+    };
     let read = args.input.read_options();
     let mut saved = match &args.save_draws {
         Some(p) => Some((
@@ -263,8 +278,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         }
     }
     let mut failed = 0usize;
-    'files: for file in &args.files {
+    'files: for (file_no, file) in args.files.iter().enumerate() {
         let shown = file.display().to_string();
+        let mut panels: Vec<NullPanel> = Vec::new();
         let net = match read_network(file, &read) {
             Ok(n) => n,
             Err(e) => {
@@ -313,10 +329,18 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             }
             if args.shard.is_none() {
                 let text = render(args.format, &shown, &run)?;
+                if svg_paths.is_some() {
+                    panels.extend(NullPanel::from_run(&run)?);
+                }
                 if !emit(&mut out, &text) {
                     break 'files;
                 }
             }
+        }
+        if let (Some(paths), false) = (&svg_paths, panels.is_empty()) {
+            let fig = null_figure(&panels, &shown)?;
+            fig.save(&paths[file_no])?;
+            eprintln!("nidus: figure written to {}", paths[file_no].display());
         }
     }
     if let Some((path, mut w)) = saved {
