@@ -360,3 +360,88 @@ fn committed_demo_figures_are_up_to_date() {
         assert!(non_white(&render(&svg)) > 1000, "{name} is blank");
     }
 }
+
+fn nidus(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_nidus"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn command_line_writes_one_figure_per_file() {
+    let dir = std::env::temp_dir().join(format!("nidus-figures-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let a = dir.join("a.csv");
+    let b = dir.join("b.csv");
+    std::fs::write(&a, "x,s1,s2,s3\nr1,1,1,1\nr2,1,0,0\n").unwrap();
+    std::fs::write(&b, "x,s1,s2\nr1,2,1\nr2,1,0\nr3,0,3\n").unwrap();
+    let base = dir.join("fig.svg");
+    let (a_s, b_s, base_s) = (
+        a.to_str().unwrap(),
+        b.to_str().unwrap(),
+        base.to_str().unwrap(),
+    );
+    let out = nidus(&[
+        "measure",
+        a_s,
+        b_s,
+        "--svg",
+        base_s,
+        "--svg-names",
+        "sites,species",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let fa = std::fs::read_to_string(dir.join("fig.a.svg")).unwrap();
+    let fb = std::fs::read_to_string(dir.join("fig.b.svg")).unwrap();
+    assert_eq!(fa.matches("class=\"cell\"").count(), 4);
+    assert_eq!(fb.matches("class=\"cell\"").count(), 4);
+    assert!(fa.contains("2 sites") && fa.contains("3 species"));
+
+    // A bad option fails before any file is read; --svg needs every draw.
+    let out = nidus(&["measure", a_s, "--svg", base_s, "--svg-names", "sites"]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = nidus(&[
+        "null",
+        a_s,
+        "--model",
+        "equiprobable",
+        "--seed",
+        "1",
+        "--shard",
+        "1/2",
+        "--save-draws",
+        dir.join("p.tsv").to_str().unwrap(),
+        "--svg",
+        base_s,
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--svg needs every draw"));
+
+    let out = nidus(&[
+        "null",
+        a_s,
+        "--model",
+        "equiprobable,fixed-rows",
+        "--index",
+        "nodf,discrepancy",
+        "--draws",
+        "49",
+        "--seed",
+        "3",
+        "--svg",
+        base_s,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let f = std::fs::read_to_string(&base).unwrap();
+    assert_eq!(f.matches("class=\"observed\"").count(), 4); // 2 models x 2 indices
+    std::fs::remove_dir_all(&dir).unwrap();
+}

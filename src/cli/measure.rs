@@ -53,7 +53,10 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     };
     let table = Table::new(args.format, &opts);
     let svg_paths = match &args.figure.svg {
-        Some(base) => Some(figure_paths(base, &args.files)?),
+        Some(base) => {
+            args.figure.options(base)?; // bad --svg-names fail before any file is read
+            Some(figure_paths(base, &args.files)?)
+        }
         None => None,
     };
     let stdout = io::stdout();

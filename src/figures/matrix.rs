@@ -22,6 +22,9 @@ const LABEL_SIDE: usize = 150;
 const LABEL_CHARS: usize = 32;
 /// Unexpected cells are marked individually only up to this many marks.
 const MARK_LIMIT: usize = 20_000;
+/// Unexpected cells are marked individually only on cells at least this
+/// many px wide and high (smaller marks would hide the cells).
+const MARK_MIN_CELL: f64 = 5.0;
 /// Target length in px of the longer side of the matrix.
 const MATRIX_PX: f64 = 560.0;
 /// Smallest cell side in px for a labelled side.
@@ -231,6 +234,8 @@ fn short(label: &str) -> String {
 ///   inside its presence region (above the curve) is marked with a ring
 ///   (class `unexpected-absence`), a presence outside it (below) with a
 ///   cross (class `unexpected-presence`): the cells that temperature scores.
+///   On cells smaller than 5 px, or beyond 20,000 marks, they are counted
+///   in the legend but not marked.
 /// * Labels: written on a side of at most 150 species (cut to 32
 ///   characters), else omitted and the count given.
 /// * Large networks (more than [`DENSITY_LINKS`] links or
@@ -501,8 +506,10 @@ pub fn matrix_figure<T: Weight>(
     if let Some(p) = lay.p {
         g = g.add(isocline(p, x0, y0, mw, mh));
     }
-    let marks_drawn =
-        !density && lay.p.is_some() && presences_out.len() + absences_in <= MARK_LIMIT;
+    let marks_drawn = !density
+        && lay.p.is_some()
+        && cw.min(ch) >= MARK_MIN_CELL
+        && presences_out.len() + absences_in <= MARK_LIMIT;
     if marks_drawn {
         let r = 0.3 * cw.min(ch);
         let sw = (0.14 * cw.min(ch)).clamp(0.4, 1.6);

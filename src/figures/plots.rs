@@ -528,7 +528,7 @@ pub fn effort_figure(
         PathEl::new()
             .set("id", "band")
             .set("d", band)
-            .set("fill", style::ramp(0.25))
+            .set("fill", style::ramp(0.15))
             .set("stroke", "none"),
     );
     let colour = style::ramp(1.0);
