@@ -33,8 +33,16 @@ pub enum IndexKind {
     Spectral,
     /// Spectral radius of the weighted network.
     SpectralWeighted,
-    /// Discrepancy (Brualdi & Sanderson 1999).
+    /// Discrepancy (Brualdi & Sanderson 1999): ones shifted within rows,
+    /// ties among column degrees in input order (`rows.stable` of
+    /// [`metrics::Discrepancy`]; also accepted as `discrepancy-rows-stable`).
     Discrepancy,
+    /// Discrepancy, ones shifted within rows, tie-minimised (Berger 2017).
+    DiscrepancyRowsMinimum,
+    /// Discrepancy, ones shifted within columns, ties in input order.
+    DiscrepancyColsStable,
+    /// Discrepancy, ones shifted within columns, tie-minimised.
+    DiscrepancyColsMinimum,
 }
 
 /// Which direction of an index means "more nested".
@@ -59,6 +67,9 @@ impl IndexKind {
         IndexKind::Spectral,
         IndexKind::SpectralWeighted,
         IndexKind::Discrepancy,
+        IndexKind::DiscrepancyRowsMinimum,
+        IndexKind::DiscrepancyColsStable,
+        IndexKind::DiscrepancyColsMinimum,
     ];
 
     /// The name used on the command line and in output.
@@ -73,6 +84,9 @@ impl IndexKind {
             IndexKind::Spectral => "spectral",
             IndexKind::SpectralWeighted => "spectral-weighted",
             IndexKind::Discrepancy => "discrepancy",
+            IndexKind::DiscrepancyRowsMinimum => "discrepancy-rows-minimum",
+            IndexKind::DiscrepancyColsStable => "discrepancy-cols-stable",
+            IndexKind::DiscrepancyColsMinimum => "discrepancy-cols-minimum",
         }
     }
 
@@ -85,9 +99,12 @@ impl IndexKind {
             | IndexKind::Wnodf
             | IndexKind::Spectral
             | IndexKind::SpectralWeighted => Direction::Greater,
-            IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
-                Direction::Less
-            }
+            IndexKind::Temperature
+            | IndexKind::TemperatureSorted
+            | IndexKind::Discrepancy
+            | IndexKind::DiscrepancyRowsMinimum
+            | IndexKind::DiscrepancyColsStable
+            | IndexKind::DiscrepancyColsMinimum => Direction::Less,
         }
     }
 
@@ -113,6 +130,9 @@ impl fmt::Display for IndexKind {
 impl FromStr for IndexKind {
     type Err = Error;
     fn from_str(s: &str) -> Result<Self> {
+        if s == "discrepancy-rows-stable" {
+            return Ok(IndexKind::Discrepancy);
+        }
         crate::error::find_by_name(s, IndexKind::ALL, IndexKind::name, "index")
     }
 }
@@ -155,8 +175,14 @@ pub fn evaluate<T: Weight>(kind: IndexKind, net: &Network<T>, opts: &IndexOption
         IndexKind::Wnodf => Ok(metrics::wnodf(net, opts.order)?.total),
         IndexKind::Spectral => Ok(metrics::spectral_radius(net)?.binary),
         IndexKind::SpectralWeighted => Ok(metrics::spectral_radius(net)?.weighted),
-        IndexKind::Temperature | IndexKind::TemperatureSorted | IndexKind::Discrepancy => {
+        IndexKind::Temperature | IndexKind::TemperatureSorted => {
             evaluate_bits(kind, &net.binary()?, opts)
+        }
+        IndexKind::Discrepancy => Ok(metrics::discrepancy(net)? as f64),
+        IndexKind::DiscrepancyRowsMinimum => Ok(metrics::discrepancy_minimum(net)? as f64),
+        IndexKind::DiscrepancyColsStable => Ok(metrics::discrepancy(&net.transpose())? as f64),
+        IndexKind::DiscrepancyColsMinimum => {
+            Ok(metrics::discrepancy_minimum(&net.transpose())? as f64)
         }
     }
 }
@@ -192,5 +218,10 @@ pub fn evaluate_bits(kind: IndexKind, b: &BitMatrix, opts: &IndexOptions) -> Res
         .sorted),
         IndexKind::Spectral => metrics::spectral::spectral_radius_of_bits(b),
         IndexKind::Discrepancy => Ok(metrics::discrepancy_of_bits(b) as f64),
+        IndexKind::DiscrepancyRowsMinimum => Ok(metrics::discrepancy_minimum_of_bits(b)? as f64),
+        IndexKind::DiscrepancyColsStable => Ok(metrics::discrepancy_of_bits(&b.transpose()) as f64),
+        IndexKind::DiscrepancyColsMinimum => {
+            Ok(metrics::discrepancy_minimum_of_bits(&b.transpose())? as f64)
+        }
     }
 }

@@ -8,7 +8,9 @@ use std::fmt;
 use std::str::FromStr;
 
 use crate::error::{Error, Result};
-use crate::metrics::{self, Order, Parts, SpectralRadius, Temperature, TemperatureOptions};
+use crate::metrics::{
+    self, Discrepancy, Order, Parts, SpectralRadius, Temperature, TemperatureOptions,
+};
 use crate::network::{Network, Weight};
 
 /// A family of indices that `measure` can compute.
@@ -22,7 +24,8 @@ pub enum Family {
     Temperature,
     /// Spectral radius of the weighted network and of its binary view.
     Spectral,
-    /// Discrepancy (Brualdi & Sanderson 1999).
+    /// Discrepancy (Brualdi & Sanderson 1999) in both orientations, ties in
+    /// input order and tie-minimised.
     Discrepancy,
 }
 
@@ -122,8 +125,10 @@ pub struct Measurement {
     pub temperature: Option<Temperature>,
     /// Spectral radius (Staniczenko, Kopp & Allesina 2013).
     pub spectral_radius: Option<SpectralRadius>,
-    /// Discrepancy (Brualdi & Sanderson 1999).
-    pub discrepancy: Option<usize>,
+    /// Discrepancy (Brualdi & Sanderson 1999) in both orientations, ties in
+    /// input order and tie-minimised (Berger 2017); see
+    /// [`metrics::discrepancies`].
+    pub discrepancy: Option<Discrepancy>,
 }
 
 /// Computes the description of `net` and the indices `opts` asks for.
@@ -165,7 +170,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         None
     };
     let discrepancy = if opts.wants(Family::Discrepancy) {
-        Some(metrics::discrepancy(net)?)
+        Some(metrics::discrepancies(net)?)
     } else {
         None
     };

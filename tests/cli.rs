@@ -221,3 +221,102 @@ fn malformed_fixtures_exit_2_naming_the_place() {
     }
     assert!(seen >= 20, "only {seen} fixtures");
 }
+
+/// Discrepancy in both orientations, stable and tie-minimised, in JSON and
+/// CSV, and every variant as a null-model index. The matrix
+/// `[[1,0,1],[0,1,0]]` is worked by hand from METHODS.md §5: its three
+/// columns tie at degree 1, so input order misplaces two ones (row 1's in
+/// column 3, row 2's in column 2) while the order (1, 3, 2) misplaces one;
+/// its rows have degrees 2 and 1, and in either column order one one of
+/// row 2 (the transpose's column) lies outside its block.
+#[test]
+fn discrepancy_keys_in_json_csv_and_null() {
+    let p = scratch("disc.csv");
+    write_matrix_file(&p, &vec![vec![1.0, 0.0, 1.0], vec![0.0, 1.0, 0.0]]);
+    let f = p.display().to_string();
+    let out = nidus(&[
+        "measure",
+        "--format",
+        "json",
+        "--indices",
+        "discrepancy",
+        &f,
+    ]);
+    assert!(out.status.success());
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(
+        v["discrepancy"],
+        serde_json::json!({"rows": {"stable": 2, "minimum": 1}, "cols": {"stable": 1, "minimum": 1}})
+    );
+    let out = nidus(&["measure", "--format", "csv", "--indices", "discrepancy", &f]);
+    let text = String::from_utf8(out.stdout).unwrap();
+    let mut lines = text.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let row: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let at = |k: &str| row[head.iter().position(|h| *h == k).unwrap()];
+    assert_eq!(
+        [
+            at("discrepancy_rows_stable"),
+            at("discrepancy_rows_minimum"),
+            at("discrepancy_cols_stable"),
+            at("discrepancy_cols_minimum")
+        ],
+        ["2", "1", "1", "1"]
+    );
+    let out = nidus(&[
+        "null",
+        "--format",
+        "json",
+        "--model",
+        "equiprobable",
+        "--draws",
+        "19",
+        "--seed",
+        "3",
+        "--index",
+        "discrepancy,discrepancy-rows-minimum,discrepancy-cols-stable,discrepancy-cols-minimum",
+        &f,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let observed: Vec<(String, f64)> = String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .map(|l| {
+            let v: Value = serde_json::from_str(l).unwrap();
+            (
+                v["index"].as_str().unwrap().to_string(),
+                v["observed"].as_f64().unwrap(),
+            )
+        })
+        .collect();
+    let want = [
+        ("discrepancy", 2.0),
+        ("discrepancy-rows-minimum", 1.0),
+        ("discrepancy-cols-stable", 1.0),
+        ("discrepancy-cols-minimum", 1.0),
+    ];
+    let want: Vec<(String, f64)> = want.iter().map(|(k, x)| (k.to_string(), *x)).collect();
+    assert_eq!(observed, want);
+    // The documented alias of the old name.
+    let out = nidus(&[
+        "null",
+        "--model",
+        "equiprobable",
+        "--draws",
+        "9",
+        "--seed",
+        "1",
+        "--index",
+        "discrepancy-rows-stable",
+        &f,
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}

@@ -208,8 +208,11 @@ fn thread_count_and_sparse_twin_blocks() {
 
 /// The n x n upper bidiagonal matrix of ones (a chain of species, each
 /// sharing a partner with the next) has singular values
-/// `2 cos(j pi / (2n + 1))`, j = 1..n (from memory; checked here against
-/// nalgebra at n = 60). Its top is a near-continuum, the slowest case for
+/// `2 cos(j pi / (2n + 1))`, j = 1..n: it is the biadjacency matrix of the
+/// path on 2n vertices (rows and columns alternate along it), whose
+/// eigenvalues are `2 cos(pi j / (2n + 1))`, j = 1..2n (Brouwer & Haemers
+/// 2012, Spectra of Graphs, ch. 1), and the singular values are the
+/// positive ones. Also checked here against nalgebra at n = 60. Its top is a near-continuum, the slowest case for
 /// Lanczos: n = 500 runs past the restarted phase into the long one.
 #[test]
 fn chain_closed_form() {

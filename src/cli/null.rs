@@ -29,7 +29,8 @@ pub struct NullArgs {
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
     /// Indices to test, comma-separated: nodf, nodf-rows, nodf-cols, wnodf, temperature,
-    /// temperature-sorted, spectral, spectral-weighted, discrepancy.
+    /// temperature-sorted, spectral, spectral-weighted, discrepancy (= discrepancy-rows-stable),
+    /// discrepancy-rows-minimum, discrepancy-cols-stable, discrepancy-cols-minimum.
     #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
     index: List<IndexKind>,
     /// Number of null draws R.
@@ -95,7 +96,7 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
     let mut s = String::new();
     if format == Format::Text {
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<18} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>9} {:>9}  {:<23} {:>6}  more nested\n",
             run.model,
             run.seed,
             run.draws,
@@ -193,7 +194,7 @@ fn text(kind: IndexKind, x: &NullSummary) -> String {
     };
     let q = format!("{:.2} / {:.2} / {:.2}", x.q025, x.q50, x.q975);
     format!(
-        "  {:<18} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
+        "  {:<24} {:>10.4} {:>10.4} {:>9.4} {:>7} {:>9.4} {:>9.4}  {:<23} {:>6}  {dir}{stop}\n",
         kind.name(),
         x.observed,
         x.mean,

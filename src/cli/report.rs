@@ -3,7 +3,7 @@
 //! `match` blocks below and nowhere else.
 
 use nidus::measure::{Family, MeasureOptions, Measurement};
-use nidus::metrics::Parts;
+use nidus::metrics::{DiscrepancyTies, Parts};
 use serde_json::{json, Map, Value};
 
 use super::{csv_field, Format};
@@ -86,7 +86,12 @@ impl Table {
                     "spectral_binary",
                     "spectral_binary_normalized",
                 ]),
-                Family::Discrepancy => cols.push("discrepancy"),
+                Family::Discrepancy => cols.extend([
+                    "discrepancy_rows_stable",
+                    "discrepancy_rows_minimum",
+                    "discrepancy_cols_stable",
+                    "discrepancy_cols_minimum",
+                ]),
             }
         }
         Some(cols.join(",") + "\n")
@@ -119,7 +124,10 @@ impl Table {
                 Family::Spectral => m.spectral_radius.map_or(Value::Null, |r| {
                     json!({"weighted": r.weighted, "binary": r.binary, "binary_normalized": r.binary_normalized})
                 }),
-                Family::Discrepancy => m.discrepancy.map_or(Value::Null, Value::from),
+                Family::Discrepancy => m.discrepancy.map_or(Value::Null, |d| {
+                    let side = |t: DiscrepancyTies| json!({"stable": t.stable, "minimum": t.minimum});
+                    json!({"rows": side(d.rows), "cols": side(d.cols)})
+                }),
             };
             o.insert(f.key().into(), v);
         }
@@ -165,7 +173,14 @@ impl Table {
                     ])
                 }
                 Family::Discrepancy => {
-                    cells.push(m.discrepancy.map_or(String::new(), |d| d.to_string()))
+                    let n = |x: Option<usize>| x.map_or(String::new(), |v| v.to_string());
+                    let d = m.discrepancy;
+                    cells.extend([
+                        n(d.map(|d| d.rows.stable)),
+                        n(d.and_then(|d| d.rows.minimum)),
+                        n(d.map(|d| d.cols.stable)),
+                        n(d.and_then(|d| d.cols.minimum)),
+                    ])
                 }
             }
         }
@@ -232,8 +247,19 @@ impl Table {
                 }
                 Family::Discrepancy => {
                     if let Some(d) = m.discrepancy {
+                        let side = |t: DiscrepancyTies| {
+                            match t.minimum {
+                            Some(min) => format!("{min} (ties in file order: {})", t.stable),
+                            None => format!(
+                                "{} with ties in file order (fewest not computed: a tie group is too large)",
+                                t.stable
+                            ),
+                        }
+                        };
                         s += &format!(
-                            "  discrepancy  {d}   (links out of place; 0 is perfectly nested)\n"
+                            "  discrepancy  {} within rows, {} within columns\n               (links to move to make the matrix nested, fewest over the orders of species with equal degrees; 0 is perfectly nested)\n",
+                            side(d.rows),
+                            side(d.cols)
                         );
                     }
                 }

@@ -13,7 +13,10 @@ pub mod spectral;
 pub mod temperature;
 pub mod wnodf;
 
-pub use discrepancy::{discrepancy, discrepancy_of_bits};
+pub use discrepancy::{
+    discrepancies, discrepancies_of_bits, discrepancy, discrepancy_minimum,
+    discrepancy_minimum_of_bits, discrepancy_of_bits, Discrepancy, DiscrepancyTies,
+};
 pub use nodf::{nodf, nodf_bits, Nodf};
 pub use spectral::{spectral_radius, SpectralRadius};
 pub use temperature::{

@@ -19,7 +19,9 @@
 //! norm (`beta_k |s_k|`), `r2` the second Ritz value's, and `g` the distance
 //! between the two Ritz values less `r + r2`. There is an eigenvalue within
 //! `r` of `theta`, and within `r^2 / g` once `g` reflects the true gap
-//! (Parlett, *The Symmetric Eigenvalue Problem*, 1998, §11.7, from memory).
+//! (Parlett, *The Symmetric Eigenvalue Problem*, 1998; the bound's exact
+//! form and its place in the book are recalled, not checked: the stopping
+//! rule's accuracy is instead checked in the tests against an SVD).
 //! The method stops when `r <= 1e-12 theta`; or when `g > 0`,
 //! `r^2 <= 1e-12 theta g` and `theta` changed by at most `1e-12 theta` in the
 //! last step; or when the Krylov space is invariant (`beta_k` negligible).
@@ -368,7 +370,8 @@ fn lanczos_top(dim: usize, work: f64, mut apply: impl FnMut(&[f64], &mut [f64]))
             // Three-term recurrence, then one classical Gram-Schmidt pass
             // against the whole basis, and a second pass only when the
             // first removed much of the vector ("twice is enough": Parlett,
-            // The Symmetric Eigenvalue Problem, 1998, §6.9, from memory).
+            // The Symmetric Eigenvalue Problem, 1998, who credits it to
+            // Kahan; recalled, and the place in the book not checked).
             let mut a = dot(&basis[k], &w);
             axpy(-a, &basis[k], &mut w);
             if k > 0 {
@@ -471,7 +474,9 @@ fn lanczos_top(dim: usize, work: f64, mut apply: impl FnMut(&[f64], &mut [f64]))
 /// The long phase: Lanczos without reorthogonalisation or restarts, for a
 /// crowded top of the spectrum where a short restarted basis converges too
 /// slowly. Memory `O(d)` plus `O(k)` scalars. Lost orthogonality only makes
-/// copies of converged Ritz values (Paige 1976, from memory); the largest
+/// copies of converged Ritz values (Paige's finding, as summarised by Bai et
+/// al. 2000, Templates for the Solution of Algebraic Eigenvalue Problems,
+/// SIAM, §4.4; the year 1976 of Paige's paper is recalled); the largest
 /// Ritz value still rises monotonically towards the largest eigenvalue, so
 /// it is tracked by Sturm-sequence bisection every tenth of the run, and the
 /// method stops when it changed by at most `1e-13` relative over the last

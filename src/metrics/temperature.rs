@@ -203,8 +203,10 @@ fn zeta(k: usize) -> f64 {
     }
 }
 
-/// `zeta(3), zeta(5), zeta(7), zeta(9)` (from memory; checked against
-/// direct summation in the tests).
+/// `zeta(3), zeta(5), zeta(7), zeta(9)`: the first three as tabulated in
+/// OEIS A002117, A013663 and A013665 (Abramowitz & Stegun 1964, p. 811);
+/// all four checked in the tests against the series summed to 2000 terms
+/// with its Euler-Maclaurin tail, to 1e-15.
 #[allow(clippy::excessive_precision)]
 const ZETA_ODD: [f64; 4] = [
     1.2020569031595942,

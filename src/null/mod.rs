@@ -280,8 +280,10 @@ impl NullSampler {
 }
 
 /// SplitMix64's output function applied to `x + 0x9E3779B97F4A7C15`
-/// (Steele, Lea & Flood 2014, OOPSLA; constants from memory, pinned by a
-/// value test).
+/// (Steele, Lea & Flood 2014, OOPSLA; the multipliers and shifts are David
+/// Stafford's "variant 13" mixer, as in Vigna's reference `splitmix64.c`;
+/// tests/published.rs checks the function against rand_xoshiro's
+/// `SplitMix64`).
 pub fn splitmix64(x: u64) -> u64 {
     let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
@@ -354,8 +356,9 @@ mod tests {
     use rand::RngCore;
 
     /// SplitMix64 with state 0 gives 0xE220A8397B1DCDAF as its first output
-    /// (the published test vector of the reference C code by Vigna, from
-    /// memory); `splitmix64(0)` is that first output.
+    /// (the value rand_xoshiro's `SplitMix64` gives, see tests/published.rs;
+    /// that it is also the test vector printed with Vigna's C code is
+    /// recalled); `splitmix64(0)` is that first output.
     #[test]
     fn splitmix64_first_output() {
         assert_eq!(splitmix64(0), 0xE220_A839_7B1D_CDAF);

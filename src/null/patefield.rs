@@ -20,8 +20,11 @@ const TABLE: usize = 1 << 16;
 /// table dealt at random to cells with the margins fixed). The mean of cell
 /// `(i, j)` is `r_i c_j / N`.
 ///
-/// Method (Patefield 1981, AS 159; the order of the search is recalled
-/// from memory): cells are filled row by row, left to right. Given the
+/// Method (Patefield 1981, AS 159; which cell order and which search within
+/// a hypergeometric the published listing uses is recalled, not checked;
+/// the law of the table drawn does not depend on either, since each cell
+/// is drawn from its exact conditional law given the cells before it):
+/// cells are filled row by row, left to right. Given the
 /// cells already drawn, cell `(i, j)` follows the hypergeometric
 /// distribution of the number of row `i`'s remaining units that fall in
 /// column `j` when they are drawn without replacement from the remaining
