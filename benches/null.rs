@@ -8,7 +8,7 @@
 #![allow(missing_docs)] // criterion_group! generates an undocumented function
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use nidus::index::{evaluate_bits, IndexKind, IndexOptions};
+use nidus::index::{evaluate, IndexKind, IndexOptions};
 use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
@@ -48,7 +48,7 @@ fn bench(c: &mut Criterion) {
                         let NullDraw::Binary(d) = s.draw(7, k) else {
                             unreachable!()
                         };
-                        evaluate_bits(IndexKind::Nodf, &d, &opts).unwrap()
+                        evaluate(IndexKind::named("nodf").unwrap(), &d, &opts).unwrap()
                     })
                 },
             );

@@ -17,9 +17,7 @@ use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use ndarray::Array2;
-use nidus::metrics::{
-    nodf, nodf_bits, spectral_radius, temperature, wnodf, Order, TemperatureOptions,
-};
+use nidus::metrics::{nodf, spectral_radius, temperature, wnodf, Order, TemperatureOptions};
 use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
@@ -114,7 +112,7 @@ fn null_and_packing(c: &mut Criterion) {
             let NullDraw::Binary(d) = sampler.draw(11, k) else {
                 unreachable!("binary model")
             };
-            nodf_bits(&d, Order::Sorted).unwrap().total
+            nodf(&d, Order::Sorted).unwrap().total
         })
     });
     g.finish();

@@ -9,7 +9,7 @@ use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
 use nidus::metrics::temperature::{
-    temperature_of_bits, temperature_with_table, TemperatureOptions, UnexpectednessTable,
+    temperature, temperature_with_table, TemperatureOptions, UnexpectednessTable,
 };
 use nidus::BitMatrix;
 
@@ -43,11 +43,11 @@ fn bench(c: &mut Criterion) {
         group.bench_with_input(
             BenchmarkId::new("given_sorted_reused", &id),
             &b,
-            |bch, b| bch.iter(|| temperature_of_bits(b, &plain).unwrap()),
+            |bch, b| bch.iter(|| temperature(b, &plain).unwrap()),
         );
         let packed = TemperatureOptions::default();
         group.bench_with_input(BenchmarkId::new("packed_default", &id), &b, |bch, b| {
-            bch.iter(|| temperature_of_bits(b, &packed).unwrap())
+            bch.iter(|| temperature(b, &packed).unwrap())
         });
     }
     group.finish();

@@ -53,7 +53,7 @@ pub fn demo_figures(data: &Path) -> nidus::Result<Vec<(String, String)>> {
     for model in [NullModel::Equiprobable, NullModel::FixedBoth] {
         let config = NullConfig::new(
             model,
-            vec![IndexKind::Nodf, IndexKind::Temperature],
+            vec![IndexKind::named("nodf")?, IndexKind::named("temperature")?],
             499,
             2024,
         );

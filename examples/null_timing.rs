@@ -20,7 +20,12 @@ fn main() -> Result<(), nidus::Error> {
     let w =
         ndarray::Array2::from_shape_fn((200, 200), |_| f64::from(u8::from(rng.random_bool(0.1))));
     let net = Network::from_array(w)?;
-    let mut config = NullConfig::new(NullModel::FixedBoth, vec![IndexKind::Nodf], draws, 1);
+    let mut config = NullConfig::new(
+        NullModel::FixedBoth,
+        vec![IndexKind::named("nodf").unwrap()],
+        draws,
+        1,
+    );
     config.threads = Some(threads);
     let start = Instant::now();
     let run = run_null(&net, &config)?;

@@ -8,8 +8,8 @@ use std::time::Instant;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
-use nidus::assign::assign;
-use nidus::metrics::temperature::{temperature_of_bits, TemperatureOptions};
+use nidus::metrics::temperature::{temperature, TemperatureOptions};
+use nidus::numerics::assign::assign;
 use nidus::BitMatrix;
 
 fn main() {
@@ -29,7 +29,7 @@ fn main() {
         ..TemperatureOptions::default()
     };
     let t0 = Instant::now();
-    let t = temperature_of_bits(&b, &plain).unwrap();
+    let t = temperature(&b, &plain).unwrap();
     let dt_plain = t0.elapsed();
     println!(
         "{size} x {size}, fill {fill}: given {:.3}, sorted {:.3} in {:.1} ms",
@@ -57,7 +57,7 @@ fn main() {
         seed: 1,
     };
     let t0 = Instant::now();
-    let t = temperature_of_bits(&b, &opts).unwrap();
+    let t = temperature(&b, &opts).unwrap();
     println!(
         "packed with {restarts} restarts: {:.3} in {:.2} s",
         t.packed.unwrap(),

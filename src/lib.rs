@@ -4,8 +4,15 @@
 //! pollinators, hosts and parasites, sites and species) and whether that
 //! nestedness is more than chance.
 //!
-//! * [`Network`]: a validated weighted network with labels, dense or sparse.
-//! * [`metrics`]: NODF, WNODF and the other indices, one file each.
+//! * [`storage`]: [`Network`] (validated weights with labels, dense or
+//!   sparse), [`BitMatrix`], [`Csr`] and the one view every index reads,
+//!   [`NetView`] (also implemented for `ndarray` arrays and views).
+//! * [`metrics`]: NODF, WNODF and the other indices, one public function
+//!   each, generic over the view; [`Statistic`] and the registry of built-in
+//!   indices ([`metrics::registry`]).
+//! * [`null`]: null models as `rand` distributions (and chains with a
+//!   burn-in), and a seeded runner that tests any statistics against any
+//!   sampler ([`null::run_test`]).
 //! * [`io`]: reading matrix and edge-list files.
 //!
 //! ```
@@ -13,12 +20,13 @@
 //! use nidus::{metrics::{nodf, Order}, Network};
 //! let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
 //! assert_eq!(nodf(&net, Order::Sorted).unwrap().total, 100.0);
+//! // Or straight from a borrowed table:
+//! let w = array![[1, 1, 1], [1, 1, 0], [1, 0, 0]];
+//! assert_eq!(nodf(&w.view(), Order::Sorted).unwrap().total, 100.0);
 //! ```
 #![warn(missing_docs)]
 
 pub mod analyses;
-pub mod assign;
-pub mod bits;
 pub mod error;
 #[cfg(feature = "figures")]
 pub mod figures;
@@ -27,12 +35,22 @@ pub mod io;
 pub mod kernels;
 pub mod measure;
 pub mod metrics;
-pub mod network;
 pub mod null;
+pub mod numerics;
 pub mod significance;
-pub mod special;
+pub mod storage;
 
-pub use bits::BitMatrix;
+/// The former paths of the storage types (`nidus::network`,
+/// `nidus::bits`), kept so existing imports keep compiling.
+#[doc(hidden)]
+pub use storage::{bits, network};
+
 pub use error::{Error, Result};
-pub use metrics::Order;
-pub use network::{Csr, Network, Weight};
+pub use metrics::{Direction, Order, Statistic};
+pub use storage::{BitMatrix, Csr, Layout, NetView, Network, Weight};
+
+/// The README's "Library use" blocks, compiled and run as doc-tests so
+/// they cannot rot.
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+pub struct ReadmeDoctests;

@@ -1,8 +1,10 @@
 //! Every index of one network in one call: what `nidus measure` prints.
 //!
-//! Adding an index: a variant of [`Family`] (with its name), a field of
-//! [`Measurement`], and a line in [`measure`]; the command line's three
-//! output formats then need one entry each in `src/cli/report.rs`.
+//! The five families below report more than one number each (NODF's parts,
+//! temperature's orders, the spectral radius's views) and have their own
+//! fields. Any other index of the registry
+//! ([`crate::metrics::registry::BUILTINS`]) is computed too and reported by
+//! name in [`Measurement::more`], so a new index needs nothing here.
 
 use std::fmt;
 use std::str::FromStr;
@@ -129,6 +131,10 @@ pub struct Measurement {
     /// input order and tie-minimised (Berger 2017); see
     /// [`metrics::discrepancies`].
     pub discrepancy: Option<Discrepancy>,
+    /// Every registry index outside the five families above, by name (empty
+    /// for the indices nidus has today).
+    #[serde(skip_serializing_if = "std::collections::BTreeMap::is_empty")]
+    pub more: std::collections::BTreeMap<&'static str, f64>,
 }
 
 /// Computes the description of `net` and the indices `opts` asks for.
@@ -174,6 +180,16 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
     } else {
         None
     };
+    let mut more = std::collections::BTreeMap::new();
+    let options = metrics::IndexOptions {
+        order: opts.order,
+        temperature: opts.temperature,
+    };
+    for e in metrics::BUILTINS {
+        if e.family.parse::<Family>().is_err() {
+            more.insert(e.name, (e.evaluate)(net, &options)?);
+        }
+    }
     Ok(Measurement {
         rows: net.nrows(),
         cols: net.ncols(),
@@ -186,5 +202,6 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         temperature,
         spectral_radius,
         discrepancy,
+        more,
     })
 }

@@ -30,6 +30,7 @@ fn meadow_layouts_give_the_identical_network() {
     let opts = ReadOptions {
         layout: Layout::Edges,
         edge_header: EdgeHeader::Auto,
+        ..Default::default()
     };
     let edges = read_network(&demo("meadow_visits_edges.csv"), &opts).unwrap();
     assert_eq!(matrix.row_labels(), edges.row_labels());

@@ -6,9 +6,8 @@
 
 use ndarray::Array2;
 use nidus::kernels::popcount::PopcountPath;
-use nidus::metrics::nodf::{nodf_bits_with, upper_overlaps};
-use nidus::metrics::sparse::{nodf_csr, wnodf_csr};
-use nidus::metrics::{nodf, nodf_bits, wnodf, Order, Parts};
+use nidus::metrics::nodf::{nodf_with_path, upper_overlaps};
+use nidus::metrics::{nodf, wnodf, Order, Parts};
 use nidus::{Csr, Network};
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -186,13 +185,13 @@ fn check_all(seed: u64) {
         let got = nodf(&net, order).ok();
         assert_eq!(got, want, "seed {seed} {order} nodf dense");
         assert_eq!(
-            nodf_csr(&csr, order).ok(),
+            nodf(&csr, order).ok(),
             want,
             "seed {seed} {order} nodf sparse"
         );
         for path in PopcountPath::available() {
             assert_eq!(
-                nodf_bits_with(&bits, order, path).ok(),
+                nodf_with_path(&bits, order, path).ok(),
                 want,
                 "seed {seed} {order} {path:?}"
             );
@@ -200,7 +199,7 @@ fn check_all(seed: u64) {
         let wwant = wnodf_ref(&w, order);
         assert_eq!(wnodf(&net, order).ok(), wwant, "seed {seed} {order} wnodf");
         assert_eq!(
-            wnodf_csr(&csr, order).ok(),
+            wnodf(&csr, order).ok(),
             wwant,
             "seed {seed} {order} wnodf sparse"
         );
@@ -250,11 +249,11 @@ fn larger_matrices_any_thread_count() {
             for threads in [1, 3] {
                 pool(threads).install(|| {
                     assert_eq!(nodf(&net, order).ok(), want, "{threads} {order}");
-                    assert_eq!(nodf_csr(&csr, order).ok(), want, "{threads} {order}");
+                    assert_eq!(nodf(&csr, order).ok(), want, "{threads} {order}");
                     assert_eq!(wnodf(&net, order).ok(), wwant, "{threads} {order}");
                     for path in PopcountPath::available() {
                         let b = net.binary().unwrap();
-                        assert_eq!(nodf_bits_with(&b, order, path).ok(), want, "{path:?}");
+                        assert_eq!(nodf_with_path(&b, order, path).ok(), want, "{path:?}");
                     }
                 });
             }
@@ -286,19 +285,16 @@ fn sparse_storage_dispatch() {
     let b = net.binary().unwrap();
     assert_eq!(
         nodf(&net, Order::Sorted).unwrap(),
-        nodf_bits(&b, Order::Sorted).unwrap()
+        nodf(&b, Order::Sorted).unwrap()
     );
     // Compressed rows built from a dense copy of the same cells.
     let dense = Csr::from_dense(net.to_dense().unwrap().view());
     assert_eq!(
         nodf(&net, Order::Given).unwrap(),
-        nodf_csr(&dense, Order::Given).unwrap()
+        nodf(&dense, Order::Given).unwrap()
     );
     for order in [Order::Sorted, Order::Given] {
-        assert_eq!(
-            wnodf(&net, order).unwrap(),
-            wnodf_csr(&dense, order).unwrap()
-        );
+        assert_eq!(wnodf(&net, order).unwrap(), wnodf(&dense, order).unwrap());
     }
 }
 
@@ -333,23 +329,23 @@ fn published_facts_on_every_path() {
     let b = net.binary().unwrap();
     for order in [Order::Sorted, Order::Given] {
         assert_eq!(nodf(&net, order).unwrap().total, 100.0);
-        assert_eq!(nodf_csr(&csr, order).unwrap().total, 100.0);
+        assert_eq!(nodf(&csr, order).unwrap().total, 100.0);
         for path in PopcountPath::available() {
-            assert_eq!(nodf_bits_with(&b, order, path).unwrap().total, 100.0);
+            assert_eq!(nodf_with_path(&b, order, path).unwrap().total, 100.0);
         }
     }
     let circ = Array2::from_shape_fn((65, 65), |(i, j)| ((j + 65 - i) % 65 < 20) as u32);
     let c = Network::from_array(circ.clone()).unwrap();
     assert_eq!(nodf(&c, Order::Sorted).unwrap().total, 0.0);
     assert_eq!(
-        nodf_csr(&Csr::from_dense(circ.view()), Order::Given)
+        nodf(&Csr::from_dense(circ.view()), Order::Given)
             .unwrap()
             .total,
         0.0
     );
     let w = ndarray::array![[5u32, 4, 3], [2, 1, 0], [1, 0, 0]];
     assert_eq!(
-        wnodf_csr(&Csr::from_dense(w.view()), Order::Sorted)
+        wnodf(&Csr::from_dense(w.view()), Order::Sorted)
             .unwrap()
             .total,
         100.0

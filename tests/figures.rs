@@ -234,7 +234,10 @@ fn observed_line_sits_at_its_value() {
     let net = small();
     let config = NullConfig::new(
         NullModel::Equiprobable,
-        vec![IndexKind::Nodf, IndexKind::Discrepancy],
+        vec![
+            IndexKind::named("nodf").unwrap(),
+            IndexKind::named("discrepancy").unwrap(),
+        ],
         199,
         11,
     );

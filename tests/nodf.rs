@@ -141,7 +141,7 @@ fn transpose_swaps_parts() {
         };
         let t = net.transpose();
         for order in [Order::Sorted, Order::Given] {
-            for f in [nodf::<f64>, wnodf::<f64>] {
+            for f in [nodf::<Network<f64>>, wnodf::<Network<f64>>] {
                 let (a, b) = (f(&net, order).unwrap(), f(&t, order).unwrap());
                 assert_abs_diff_eq!(a.total, b.total, epsilon = 1e-12);
                 assert_eq!(a.rows, b.cols);

@@ -541,7 +541,13 @@ fn rejections(model: NullModel, index: IndexKind, trials: usize, draws: usize, s
 /// band of Bin(200, 0.05).
 #[test]
 fn equiprobable_test_is_calibrated() {
-    let r = rejections(NullModel::Equiprobable, IndexKind::Nodf, 200, 99, 31);
+    let r = rejections(
+        NullModel::Equiprobable,
+        IndexKind::named("nodf").unwrap(),
+        200,
+        99,
+        31,
+    );
     let (lo, hi) = (binomial_lower(200, 0.05), binomial_upper(200, 0.05));
     assert!(lo <= r && r <= hi, "{r} of 200 rejected, band {lo}..={hi}");
 }
@@ -555,14 +561,17 @@ fn every_model_is_calibrated() {
     let trials = 1000;
     let (lo, hi) = (binomial_lower(trials, 0.05), binomial_upper(trials, 0.05));
     let cases = [
-        (NullModel::Equiprobable, IndexKind::Nodf),
-        (NullModel::Proportional, IndexKind::Nodf),
-        (NullModel::FixedRows, IndexKind::Nodf),
-        (NullModel::FixedColumns, IndexKind::Nodf),
-        (NullModel::FixedBoth, IndexKind::Nodf),
-        (NullModel::ShuffleCells, IndexKind::Wnodf),
-        (NullModel::ShuffleWeights, IndexKind::Wnodf),
-        (NullModel::FixedTotals, IndexKind::Nodf),
+        (NullModel::Equiprobable, IndexKind::named("nodf").unwrap()),
+        (NullModel::Proportional, IndexKind::named("nodf").unwrap()),
+        (NullModel::FixedRows, IndexKind::named("nodf").unwrap()),
+        (NullModel::FixedColumns, IndexKind::named("nodf").unwrap()),
+        (NullModel::FixedBoth, IndexKind::named("nodf").unwrap()),
+        (NullModel::ShuffleCells, IndexKind::named("wnodf").unwrap()),
+        (
+            NullModel::ShuffleWeights,
+            IndexKind::named("wnodf").unwrap(),
+        ),
+        (NullModel::FixedTotals, IndexKind::named("nodf").unwrap()),
     ];
     let mut failures = Vec::new();
     for (k, (model, index)) in cases.into_iter().enumerate() {

@@ -32,9 +32,15 @@ fn threads_and_shards_give_the_same_draws() {
     let (_, net) = test_network(4, 14, 11);
     for &model in NullModel::ALL {
         let indices = if model.is_weighted() {
-            vec![IndexKind::Nodf, IndexKind::Wnodf]
+            vec![
+                IndexKind::named("nodf").unwrap(),
+                IndexKind::named("wnodf").unwrap(),
+            ]
         } else {
-            vec![IndexKind::Nodf, IndexKind::NodfRows]
+            vec![
+                IndexKind::named("nodf").unwrap(),
+                IndexKind::named("nodf-rows").unwrap(),
+            ]
         };
         let mut c = NullConfig::new(model, indices, 150, 77);
         c.threads = Some(1);
@@ -69,7 +75,12 @@ fn threads_and_shards_give_the_same_draws() {
 #[test]
 fn sequential_stop_is_deterministic() {
     let (_, net) = test_network(5, 12, 12);
-    let mut c = NullConfig::new(NullModel::FixedRows, vec![IndexKind::Nodf], 2000, 9);
+    let mut c = NullConfig::new(
+        NullModel::FixedRows,
+        vec![IndexKind::named("nodf").unwrap()],
+        2000,
+        9,
+    );
     c.stop_after = Some(10);
     c.threads = Some(1);
     let a = run_null(&net, &c).unwrap();
@@ -103,7 +114,12 @@ fn sequential_stop_is_deterministic() {
 }
 
 fn shard_files(net: &Network<f64>, k: usize) -> Vec<SavedRun> {
-    let mut c = NullConfig::new(NullModel::Equiprobable, vec![IndexKind::Nodf], 40, 3);
+    let mut c = NullConfig::new(
+        NullModel::Equiprobable,
+        vec![IndexKind::named("nodf").unwrap()],
+        40,
+        3,
+    );
     let mut out = Vec::new();
     for i in 1..=k {
         c.shard = Some(Shard::new(i, k).unwrap());
@@ -398,4 +414,47 @@ fn binary_sequential_stop() {
     let t = line["draws"].as_f64().unwrap();
     assert!(t < 5000.0);
     assert_eq!(line["p_greater"].as_f64().unwrap(), 5.0 / t);
+}
+
+/// The open runner is the same machine as the named one: `run_test` with
+/// the built-in statistics and the model's sampler gives `run_null`'s
+/// values bit for bit, and the fixed-both sampler is the curveball chain
+/// through `BurnIn` with the default burn-in `5 max(m, n)` (METHODS.md §6).
+#[test]
+fn run_test_is_run_null_for_built_in_names() {
+    use nidus::metrics::registry::IndexOptions;
+    use nidus::null::{
+        draw_rng, run_test, BurnIn, CurveballChain, Distribution, NullDraw, NullOptions,
+        NullSampler, RunOptions,
+    };
+    use nidus::{NetView, Statistic};
+    let (_, net) = test_network(9, 12, 15);
+    for &model in NullModel::ALL {
+        let names: &[&str] = if model.is_weighted() {
+            &["nodf", "wnodf", "spectral-weighted", "discrepancy"]
+        } else {
+            &["nodf-cols", "temperature-sorted", "spectral", "discrepancy"]
+        };
+        let kinds: Vec<IndexKind> = names.iter().map(|n| n.parse().unwrap()).collect();
+        let named = run_null(&net, &NullConfig::new(model, kinds.clone(), 40, 13)).unwrap();
+        let stats: Vec<_> = kinds
+            .iter()
+            .map(|k| k.statistic(IndexOptions::default()))
+            .collect();
+        let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
+        let sampler = NullSampler::new(&net, model, &NullOptions::default()).unwrap();
+        let pattern = net.binary().unwrap();
+        let observed: &dyn NetView = if model.is_weighted() { &net } else { &pattern };
+        let open = run_test(observed, &stats, &sampler, &RunOptions::new(40, 13)).unwrap();
+        assert_eq!(bits(&open.values), bits(&named.values), "{model}");
+        assert_eq!(open.observed, named.observed, "{model}");
+        assert_eq!(open.summaries().unwrap(), named.summaries().unwrap());
+    }
+    let start = CurveballChain::new(&net.binary().unwrap());
+    let fixed_both = BurnIn::new(start, 5 * 15);
+    let sampler = NullSampler::new(&net, NullModel::FixedBoth, &NullOptions::default()).unwrap();
+    for k in 0..5 {
+        let b = fixed_both.sample(&mut draw_rng(3, k));
+        assert_eq!(sampler.draw(3, k), NullDraw::Binary(b));
+    }
 }

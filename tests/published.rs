@@ -5,7 +5,7 @@
 use ndarray::{array, Array2};
 use nidus::bits::BitMatrix;
 use nidus::metrics::temperature::{UnexpectednessTable, U_MAX};
-use nidus::metrics::{nodf, nodf_bits, temperature_of_bits, wnodf, Order, TemperatureOptions};
+use nidus::metrics::{nodf, temperature, wnodf, Order, TemperatureOptions};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -129,7 +129,7 @@ fn britton_nodf_is_100_only_for_full_triangles() {
         for n in 2..=4usize {
             for bits in 0u32..(1 << (m * n)) {
                 let b = BitMatrix::from_fn(m, n, |i, j| bits >> (i * n + j) & 1 == 1);
-                let v = nodf_bits(&b, Order::Sorted).unwrap().total;
+                let v = nodf(&b, Order::Sorted).unwrap().total;
                 let full = is_full_triangle(&b);
                 assert_eq!(v == 100.0, full, "{m} x {n} matrix {bits:#b}: NODF {v}");
                 hundreds += usize::from(full);
@@ -148,12 +148,8 @@ fn britton_nodf_is_100_only_for_full_triangles() {
             cols.swap(k, rng.random_range(0..=k));
         }
         let p = t.permuted(&rows, &cols);
-        assert_eq!(
-            nodf_bits(&p, Order::Sorted).unwrap().total,
-            100.0,
-            "n = {n}"
-        );
-        assert_eq!(nodf_bits(&t, Order::Given).unwrap().total, 100.0, "n = {n}");
+        assert_eq!(nodf(&p, Order::Sorted).unwrap().total, 100.0, "n = {n}");
+        assert_eq!(nodf(&t, Order::Given).unwrap().total, 100.0, "n = {n}");
         // Near misses: one cell removed from the triangle's edge (two rows
         // or two columns then tie), one cell added below it, and the
         // staircase with one extra column (a rectangle: its first two
@@ -162,7 +158,7 @@ fn britton_nodf_is_100_only_for_full_triangles() {
         let add = BitMatrix::from_fn(n, n, |i, j| j < n - i || (i == n - 1 && j == 1));
         let wide = BitMatrix::from_fn(n, n + 1, |i, j| j < n + 1 - i);
         for (what, b) in [("cut", cut), ("add", add), ("wide", wide)] {
-            let v = nodf_bits(&b, Order::Sorted).unwrap().total;
+            let v = nodf(&b, Order::Sorted).unwrap().total;
             assert!(v < 100.0, "{what} n = {n}: NODF {v}");
         }
     }
@@ -230,7 +226,7 @@ fn britton_uniform_margins_give_zero() {
             let (rd, cd) = (b.row_degrees(), b.col_degrees());
             assert!(rd.iter().all(|&d| d == rd[0]) && cd.iter().all(|&d| d == cd[0]));
             for order in [Order::Given, Order::Sorted] {
-                assert_eq!(nodf_bits(&b, order).unwrap().total, 0.0, "n = {n}");
+                assert_eq!(nodf(&b, order).unwrap().total, 0.0, "n = {n}");
             }
         }
     }
@@ -300,8 +296,7 @@ fn temperature_random_mean_is_one_twentyfourth() {
         pack: false,
         ..Default::default()
     };
-    let sum = temperature_of_bits(&m, &opts).unwrap().given
-        + temperature_of_bits(&c, &opts).unwrap().given;
+    let sum = temperature(&m, &opts).unwrap().given + temperature(&c, &opts).unwrap().given;
     let want = 100.0 * mean_weight(n) / U_MAX;
     assert!((sum - want).abs() < 1e-9 * want, "{sum} vs {want}");
 }
@@ -358,7 +353,7 @@ fn temperature_large_random_matrices_score_about_100_5() {
         let t = table.temperature(&b, &order, &order);
         if r == 0 {
             // The table is what temperature() uses for the given order.
-            let given = temperature_of_bits(&b, &opts).unwrap().given;
+            let given = temperature(&b, &opts).unwrap().given;
             assert!((t - given).abs() < 1e-9 * given);
         }
         mean += t / reps as f64;

@@ -5,18 +5,19 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::io::read_network;
 use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
 use nidus::Order;
 
 use super::figure::{figure_paths, MatrixFigureArgs};
 use super::report::Table;
-use super::{emit, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    emit, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct MeasureArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Row and column order for NODF and WNODF: sorted (by decreasing degree) or given (as in the file).
@@ -24,8 +25,10 @@ pub struct MeasureArgs {
     order: Order,
     #[command(flatten)]
     input: LayoutArgs,
-    /// Indices to compute, comma-separated: nodf, wnodf, temperature, spectral, discrepancy (default: all).
-    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>)]
+    /// Index families to compute (the list comes from the registry of indices).
+    #[arg(long, value_name = "LIST", value_parser = parse_list::<Family>,
+          help = format!("Indices to compute, comma-separated: {} (default: all)",
+                         nidus::metrics::registry::families().join(", ")))]
     indices: Option<List<Family>>,
     /// Temperature: random starts of the packing search besides the degree-sorted one.
     #[arg(long, default_value_t = TemperatureOptions::default().restarts, value_name = "N")]
@@ -42,6 +45,7 @@ pub struct MeasureArgs {
 
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let opts = MeasureOptions {
         order: args.order,
         families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
@@ -68,18 +72,16 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
         }
     }
     for (k, file) in args.files.iter().enumerate() {
-        let result = read_network(file, &read).and_then(|net| {
+        let shown = input_name(file);
+        let result = read_input(file, &read).and_then(|read| {
+            let net = read.network;
             let m = measure(&net, &opts)?;
             if let Some(paths) = &svg_paths {
                 let fig = nidus::figures::matrix_figure(&net, &m, &args.figure.options(file)?)?;
                 fig.save(&paths[k])?;
                 eprintln!("nidus: figure written to {}", paths[k].display());
             }
-            Ok(table.record(
-                &file.display().to_string(),
-                &m,
-                (net.row_labels(), net.col_labels()),
-            ))
+            Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels())))
         });
         match result {
             Ok(text) => {
@@ -89,7 +91,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             }
             Err(e) => {
                 failed += 1;
-                report_failure(&file.display().to_string(), &e);
+                report_failure(&shown, &e);
             }
         }
     }

@@ -6,7 +6,9 @@ use std::process::ExitCode;
 use std::io::{self, Write};
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
-use nidus::io::{EdgeHeader, Layout, ReadOptions};
+use std::path::Path;
+
+use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
 mod figure;
 mod measure;
@@ -120,9 +122,18 @@ pub struct LayoutArgs {
     /// File layout: matrix (a table with labels) or edges (one interaction per line).
     #[arg(long, default_value = "matrix", value_name = "matrix|edges")]
     layout: Layout,
-    /// For edges: is the first line a header? auto skips it when its weight field is not a number.
+    /// For edges: is the first line a header? auto decides (README, "File layouts") and says so on stderr.
     #[arg(long, default_value = "auto", value_name = "auto|yes|no")]
     edge_header: EdgeHeader,
+    /// For matrix: which labels the file has: both, rows (no header line), cols (no row labels), none. auto reads a table whose first line and first column are all numbers as unlabelled (rows r1.., columns c1..), else as both.
+    #[arg(long, default_value = "auto", value_name = "auto|both|rows|cols|none")]
+    labels: Labels,
+    /// Keep species without any link (all-zero rows or columns, labels seen only with weight 0); by default they are dropped and listed on stderr.
+    #[arg(long)]
+    keep_empty: bool,
+    /// Swap rows and columns (the file's columns become the rows).
+    #[arg(long)]
+    transpose: bool,
 }
 
 impl LayoutArgs {
@@ -131,7 +142,82 @@ impl LayoutArgs {
         ReadOptions {
             layout: self.layout,
             edge_header: self.edge_header,
+            labels: self.labels,
+            keep_empty: self.keep_empty,
+            transpose: self.transpose,
         }
+    }
+}
+
+/// The name of an input in messages and output: `<stdin>` for `-`.
+pub fn input_name(file: &Path) -> String {
+    if file.as_os_str() == "-" {
+        "<stdin>".to_string()
+    } else {
+        file.display().to_string()
+    }
+}
+
+/// Refuses `-` (standard input) named more than once: it can be read once.
+pub fn check_stdin_once(files: &[std::path::PathBuf]) -> nidus::Result<()> {
+    if files.iter().filter(|f| f.as_os_str() == "-").count() > 1 {
+        return Err(nidus::Error::InvalidArgument(
+            "'-' (standard input) is named more than once; it can be read only once".into(),
+        ));
+    }
+    Ok(())
+}
+
+/// Reads one input (`-` is standard input) and prints the reader's notes on
+/// stderr. When a matrix read fails on a file that looks like an edge list,
+/// the error gains the advice to use `--layout edges`.
+pub fn read_input(file: &Path, read: &ReadOptions) -> nidus::Result<ReadOutcome> {
+    let name = input_name(file);
+    let bytes = if file.as_os_str() == "-" {
+        let mut b = Vec::new();
+        io::Read::read_to_end(&mut io::stdin().lock(), &mut b).map_err(|source| {
+            nidus::Error::Io {
+                path: name.clone().into(),
+                source,
+            }
+        })?;
+        b
+    } else {
+        std::fs::read(file).map_err(|source| nidus::Error::Io {
+            path: file.to_path_buf(),
+            source,
+        })?
+    };
+    match nidus::io::parse_network_reported(&bytes, Path::new(&name), read) {
+        Ok(outcome) => {
+            print_read_notes(&name, &outcome.report);
+            Ok(outcome)
+        }
+        Err(e @ (nidus::Error::Parse { .. } | nidus::Error::EmptyNetwork(_)))
+            if read.layout == Layout::Matrix && nidus::io::looks_like_edge_list(&bytes) =>
+        {
+            Err(nidus::Error::InvalidArgument(format!(
+                "{e} (its lines look like an edge list, one interaction per line: \
+                 use --layout edges)"
+            )))
+        }
+        Err(e) => Err(e),
+    }
+}
+
+/// Prints what the reader decided for one input, one line per decision:
+/// `nidus: FILE: NOTE`, with the option that changes it.
+pub fn print_read_notes(name: &str, report: &ReadReport) {
+    for note in &report.notes {
+        let advice = match note {
+            ReadNote::EdgeHeader { .. } => " (--edge-header no reads it as data)",
+            ReadNote::Unlabelled { .. } => {
+                " (--labels both reads the first line and column as labels)"
+            }
+            ReadNote::Dropped { .. } => " (--keep-empty keeps them)",
+            _ => "",
+        };
+        eprintln!("nidus: {name}: {note}{advice}");
     }
 }
 

@@ -10,28 +10,30 @@ use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::figures::{null_figure, NullPanel};
 use nidus::index::IndexKind;
-use nidus::io::read_network;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
 use nidus::significance::NullSummary;
 use nidus::{Error, Order};
 use serde_json::{Map, Value};
 
 pub use super::emit;
-use super::{csv_field, parse_list, report_failure, Format, LayoutArgs, List, EXIT_INPUT};
+use super::{
+    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
+    EXIT_INPUT,
+};
 
 #[derive(Args, Debug)]
 pub struct NullArgs {
-    /// Network files (see README for the two layouts).
+    /// Network files (see README for the two layouts); `-` reads standard input.
     #[arg(required = true, value_name = "FILE")]
     files: Vec<PathBuf>,
     /// Null models, comma-separated: equiprobable, proportional, fixed-rows, fixed-columns,
     /// fixed-both, shuffle-cells, shuffle-weights, fixed-totals.
     #[arg(long, required = true, value_name = "LIST", value_parser = parse_list::<NullModel>)]
     model: List<NullModel>,
-    /// Indices to test, comma-separated: nodf, nodf-rows, nodf-cols, wnodf, temperature,
-    /// temperature-sorted, spectral, spectral-weighted, discrepancy (= discrepancy-rows-stable),
-    /// discrepancy-rows-minimum, discrepancy-cols-stable, discrepancy-cols-minimum.
-    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>)]
+    /// Indices to test (the list comes from the registry of indices).
+    #[arg(long, default_value = "nodf", value_name = "LIST", value_parser = parse_list::<IndexKind>,
+          help = format!("Indices to test, comma-separated: {}",
+                         nidus::metrics::registry::help_list()))]
     index: List<IndexKind>,
     /// Number of null draws R.
     #[arg(long, default_value_t = 999, value_name = "R")]
@@ -259,6 +261,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         None => None,
     };
     let read = args.input.read_options();
+    super::check_stdin_once(&args.files)?;
     let mut saved = match &args.save_draws {
         Some(p) => Some((
             p.clone(),
@@ -280,10 +283,10 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     }
     let mut failed = 0usize;
     'files: for (file_no, file) in args.files.iter().enumerate() {
-        let shown = file.display().to_string();
+        let shown = input_name(file);
         let mut panels: Vec<NullPanel> = Vec::new();
-        let net = match read_network(file, &read) {
-            Ok(n) => n,
+        let net = match read_input(file, &read) {
+            Ok(r) => r.network,
             Err(e) => {
                 failed += 1;
                 report_failure(&shown, &e);

@@ -6,15 +6,15 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::io::{read_network, write_matrix};
+use nidus::io::write_matrix;
 
-use super::LayoutArgs;
+use super::{read_input, LayoutArgs};
 use nidus::null::{NullModel, NullOptions, NullSampler};
 use nidus::Error;
 
 #[derive(Args, Debug)]
 pub struct SampleArgs {
-    /// The network file.
+    /// The network file; `-` reads standard input (files are then named network.*).
     #[arg(value_name = "FILE")]
     file: PathBuf,
     /// The null model (one name).
@@ -38,7 +38,7 @@ pub struct SampleArgs {
 
 pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
-    let net = read_network(&args.file, &read)?;
+    let net = read_input(&args.file, &read)?.network;
     let sampler = NullSampler::new(
         &net,
         args.model,
@@ -53,6 +53,7 @@ pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
     let stem = args
         .file
         .file_stem()
+        .filter(|s| *s != "-")
         .map_or("network".into(), |s| s.to_string_lossy().into_owned());
     let width = args.count.saturating_sub(1).to_string().len();
     for k in 0..args.count {

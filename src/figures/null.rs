@@ -103,7 +103,7 @@ fn bins(values: &[f64]) -> (f64, f64, Vec<usize>) {
 /// use ndarray::array;
 /// use nidus::{figures::{null_figure, NullPanel}, index::IndexKind, null::{run_null, NullConfig, NullModel}, Network};
 /// let net = Network::from_array(array![[1, 1, 1, 1], [1, 1, 1, 0], [1, 1, 0, 0], [1, 0, 0, 0]]).unwrap();
-/// let run = run_null(&net, &NullConfig::new(NullModel::Equiprobable, vec![IndexKind::Nodf], 99, 7)).unwrap();
+/// let run = run_null(&net, &NullConfig::new(NullModel::Equiprobable, vec![IndexKind::named("nodf").unwrap()], 99, 7)).unwrap();
 /// let svg = null_figure(&NullPanel::from_run(&run).unwrap(), "").unwrap().to_svg();
 /// assert_eq!(svg.matches("class=\"observed\"").count(), 1);
 /// ```

@@ -20,12 +20,12 @@
 //! Algebra, relates the two); [`discrepancies`] reports both orientations,
 //! each stable and minimised.
 
-use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
 use crate::metrics::degree_order;
-use crate::network::{Network, Weight};
+use crate::metrics::registry::IndexOptions;
+use crate::storage::{BitMatrix, Csr, Layout, NetView};
 
-/// Discrepancy of a network's binary view.
+/// Discrepancy of the binary view of any [`NetView`].
 ///
 /// With columns at positions `pos(j)` in decreasing order of degree (ties in
 /// input order), discrepancy `= sum_i #{ j : b_ij = 1, pos(j) >= d_i }`.
@@ -55,11 +55,23 @@ use crate::network::{Network, Weight};
 /// let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [0, 0, 1]]).unwrap();
 /// assert_eq!(discrepancy(&net).unwrap(), 1);
 /// ```
-pub fn discrepancy<T: Weight>(net: &Network<T>) -> Result<usize> {
-    let pos = positions(net.col_degrees());
-    let csr = net.csr();
+pub fn discrepancy<V: NetView + ?Sized>(view: &V) -> Result<usize> {
+    if view.layout() == Layout::Bits {
+        return Ok(discrepancy_of_bits(&*view.bits()?));
+    }
+    Ok(stable_count(
+        &*view.compressed_rows()?,
+        &view.row_degrees(),
+        &view.col_degrees(),
+    ))
+}
+
+/// The stable count on compressed lists (rows shifted within rows, the
+/// lists' columns by decreasing degree, ties in input order).
+fn stable_count(csr: &Csr<f64>, row_degrees: &[usize], col_degrees: &[usize]) -> usize {
+    let pos = positions(col_degrees);
     let mut count = 0;
-    for (i, &d) in net.row_degrees().iter().enumerate() {
+    for (i, &d) in row_degrees.iter().enumerate() {
         count += csr
             .row(i)
             .0
@@ -67,13 +79,13 @@ pub fn discrepancy<T: Weight>(net: &Network<T>) -> Result<usize> {
             .filter(|&&j| pos[j as usize] >= d)
             .count();
     }
-    Ok(count)
+    count
 }
 
 /// [`discrepancy`] of a bit-packed binary matrix (null-model draws).
 ///
 /// Cost: `O(m n / 64 + L + n log n)`.
-pub fn discrepancy_of_bits(b: &BitMatrix) -> usize {
+pub(crate) fn discrepancy_of_bits(b: &BitMatrix) -> usize {
     let pos = positions(&b.col_degrees());
     (0..b.nrows())
         .map(|i| {
@@ -168,7 +180,7 @@ fn at_most(sorted: &[usize], q: usize) -> usize {
 /// the crate's assignment solver (`crate::assign`), kept here so that a
 /// move of the solver touches one line.
 fn min_assignment(cost: &[f64], k: usize) -> Result<f64> {
-    Ok(crate::assign::assign(cost, k, k)?.cost)
+    Ok(crate::numerics::assign::assign(cost, k, k)?.cost)
 }
 
 /// Stable and tie-minimised discrepancy of one orientation: columns ordered
@@ -292,30 +304,30 @@ fn group_minimum(group: &[usize], a: usize, lists: &ColumnLists) -> Result<usize
 /// assert_eq!(discrepancy(&net).unwrap(), 2);
 /// assert_eq!(discrepancy_minimum(&net).unwrap(), 1);
 /// ```
-pub fn discrepancy_minimum<T: Weight>(net: &Network<T>) -> Result<usize> {
-    let lists = network_lists(net, false);
-    tie_values(net.col_degrees(), &lists).1
+pub fn discrepancy_minimum<V: NetView + ?Sized>(view: &V) -> Result<usize> {
+    if view.layout() == Layout::Bits {
+        return discrepancy_minimum_of_bits(&*view.bits()?);
+    }
+    let lists = network_lists(view, false)?;
+    tie_values(&view.col_degrees(), &lists).1
 }
 
 /// [`discrepancy_minimum`] of a bit-packed binary matrix.
-pub fn discrepancy_minimum_of_bits(b: &BitMatrix) -> Result<usize> {
+pub(crate) fn discrepancy_minimum_of_bits(b: &BitMatrix) -> Result<usize> {
     let (rd, cd) = (b.row_degrees(), b.col_degrees());
     let lists = ColumnLists::new(&rd, &cd, bit_ones(b));
     tie_values(&cd, &lists).1
 }
 
-fn network_lists<T: Weight>(net: &Network<T>, transposed: bool) -> ColumnLists {
-    let csr = net.csr();
-    let ones = (0..net.nrows()).flat_map(|i| csr.row(i).0.iter().map(move |&j| (i, j as usize)));
-    if transposed {
-        ColumnLists::new(
-            net.col_degrees(),
-            net.row_degrees(),
-            ones.map(|(i, j)| (j, i)),
-        )
+fn network_lists<V: NetView + ?Sized>(view: &V, transposed: bool) -> Result<ColumnLists> {
+    let csr = view.compressed_rows()?;
+    let (rd, cd) = (view.row_degrees(), view.col_degrees());
+    let ones = (0..view.nrows()).flat_map(|i| csr.row(i).0.iter().map(move |&j| (i, j as usize)));
+    Ok(if transposed {
+        ColumnLists::new(&cd, &rd, ones.map(|(i, j)| (j, i)))
     } else {
-        ColumnLists::new(net.row_degrees(), net.col_degrees(), ones)
-    }
+        ColumnLists::new(&rd, &cd, ones)
+    })
 }
 
 fn bit_ones(b: &BitMatrix) -> impl Iterator<Item = (usize, usize)> + '_ {
@@ -361,9 +373,12 @@ fn ties(v: (usize, Result<usize>)) -> Result<DiscrepancyTies> {
 /// // Rows have degrees 2 and 1 (no tie): one one of row 2 is out of place.
 /// assert_eq!((d.cols.stable, d.cols.minimum), (1, Some(1)));
 /// ```
-pub fn discrepancies<T: Weight>(net: &Network<T>) -> Result<Discrepancy> {
-    let rows = tie_values(net.col_degrees(), &network_lists(net, false));
-    let cols = tie_values(net.row_degrees(), &network_lists(net, true));
+pub fn discrepancies<V: NetView + ?Sized>(view: &V) -> Result<Discrepancy> {
+    if view.layout() == Layout::Bits {
+        return discrepancies_of_bits(&*view.bits()?);
+    }
+    let rows = tie_values(&view.col_degrees(), &network_lists(view, false)?);
+    let cols = tie_values(&view.row_degrees(), &network_lists(view, true)?);
     Ok(Discrepancy {
         rows: ties(rows)?,
         cols: ties(cols)?,
@@ -371,7 +386,7 @@ pub fn discrepancies<T: Weight>(net: &Network<T>) -> Result<Discrepancy> {
 }
 
 /// [`discrepancies`] of a bit-packed binary matrix (null-model draws).
-pub fn discrepancies_of_bits(b: &BitMatrix) -> Result<Discrepancy> {
+fn discrepancies_of_bits(b: &BitMatrix) -> Result<Discrepancy> {
     let (rd, cd) = (b.row_degrees(), b.col_degrees());
     let rows = tie_values(&cd, &ColumnLists::new(&rd, &cd, bit_ones(b)));
     let cols = tie_values(
@@ -384,9 +399,42 @@ pub fn discrepancies_of_bits(b: &BitMatrix) -> Result<Discrepancy> {
     })
 }
 
+/// Registry evaluator of `discrepancy` (rows, ties in input order).
+pub(crate) fn rows_stable(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    Ok(discrepancy(v)? as f64)
+}
+
+/// Registry evaluator of `discrepancy-rows-minimum`.
+pub(crate) fn rows_minimum(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    Ok(discrepancy_minimum(v)? as f64)
+}
+
+/// Registry evaluator of `discrepancy-cols-stable` (the count on the
+/// transpose).
+pub(crate) fn cols_stable(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    let count = if v.layout() == Layout::Bits {
+        discrepancy_of_bits(&v.bits()?.transpose())
+    } else {
+        stable_count(&*v.compressed_cols()?, &v.col_degrees(), &v.row_degrees())
+    };
+    Ok(count as f64)
+}
+
+/// Registry evaluator of `discrepancy-cols-minimum` (the minimum on the
+/// transpose).
+pub(crate) fn cols_minimum(v: &dyn NetView, _: &IndexOptions) -> Result<f64> {
+    let count = if v.layout() == Layout::Bits {
+        discrepancy_minimum_of_bits(&v.bits()?.transpose())?
+    } else {
+        tie_values(&v.row_degrees(), &network_lists(v, true)?).1?
+    };
+    Ok(count as f64)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::Network;
     use ndarray::Array2;
     use rand::{Rng, SeedableRng};
     use rand_xoshiro::Xoshiro256PlusPlus;

@@ -1,5 +1,8 @@
-//! Nestedness indices, one file each. Every index is a free function over a
-//! network or one of its views; its doc gives formula, cost and reference.
+//! Nestedness indices, one file or folder each. Every index is one public
+//! function generic over the storage view ([`crate::NetView`]), with its
+//! storage-specific kernels private beside it; its doc gives formula, cost
+//! and reference. [`registry`] holds the [`Statistic`] trait and the one
+//! table of built-in scalar indices.
 
 use std::fmt;
 use std::str::FromStr;
@@ -8,20 +11,18 @@ use crate::error::Error;
 
 pub mod discrepancy;
 pub mod nodf;
-pub mod sparse;
+pub mod registry;
 pub mod spectral;
 pub mod temperature;
 pub mod wnodf;
 
 pub use discrepancy::{
-    discrepancies, discrepancies_of_bits, discrepancy, discrepancy_minimum,
-    discrepancy_minimum_of_bits, discrepancy_of_bits, Discrepancy, DiscrepancyTies,
+    discrepancies, discrepancy, discrepancy_minimum, Discrepancy, DiscrepancyTies,
 };
-pub use nodf::{nodf, nodf_bits, Nodf};
+pub use nodf::{nodf, Nodf};
+pub use registry::{lookup, BuiltinStatistic, Direction, IndexOptions, Statistic, BUILTINS};
 pub use spectral::{spectral_radius, SpectralRadius};
-pub use temperature::{
-    isocline_area, isocline_p, temperature, temperature_of_bits, Temperature, TemperatureOptions,
-};
+pub use temperature::{isocline_area, isocline_p, temperature, Temperature, TemperatureOptions};
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.
@@ -114,15 +115,14 @@ impl Parts {
     }
 }
 
-/// Element-wise sum of per-task integer counts (exact, so the order of the
-/// tasks does not matter); `m` zeros when there is no task.
-pub(crate) fn add_up(parts: Vec<Vec<u64>>, m: usize) -> Vec<u64> {
-    let mut parts = parts.into_iter();
-    let mut total = parts.next().unwrap_or_else(|| vec![0; m]);
-    for part in parts {
-        for (t, x) in total.iter_mut().zip(part) {
-            *t += x;
-        }
-    }
-    total
+/// `sum over members l with d_l > 0, in order, of 100 * counts[l] / d_l`:
+/// one side of NODF or WNODF from its integer counts (added in member
+/// order, so the value does not depend on the number of threads).
+pub(crate) fn side_value(degrees: &[usize], counts: &[u64]) -> f64 {
+    degrees
+        .iter()
+        .zip(counts)
+        .filter(|(&d, _)| d > 0)
+        .map(|(&d, &c)| 100.0 * c as f64 / d as f64)
+        .sum()
 }

@@ -25,7 +25,7 @@
 //! The packed order is the pair of row and column orders that minimises
 //! `T`. For a fixed column order, placing data row `r` at position `i` costs
 //! `sum_j u(i, j | cell)`, which depends on `r` only through its own cells,
-//! so the best row order is a linear assignment problem ([`crate::assign`]);
+//! so the best row order is a linear assignment problem ([`crate::numerics::assign`]);
 //! the same holds for columns given the rows. See [`TemperatureOptions`] for
 //! the search built on that fact, exact on small matrices.
 
@@ -34,12 +34,13 @@ use rand::SeedableRng;
 use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
-use crate::assign::Workspace;
-use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
 use crate::metrics::degree_order;
-use crate::network::{Network, Weight};
-use crate::special::ln_gamma;
+use crate::metrics::registry::IndexOptions;
+use crate::numerics::assign::Workspace;
+use crate::numerics::special::ln_gamma;
+use crate::storage::BitMatrix;
+use crate::storage::NetView;
 
 /// The normalising constant of temperature: `T = 100 U / U_max` with `U` the
 /// mean unexpectedness per cell (Atmar & Patterson 1993). With it a large
@@ -91,7 +92,7 @@ const MAX_ROUNDS: usize = 1000;
 ///
 /// Cost of the alternating search: each step builds an `m x m` (or
 /// `n x n`) cost table in `O(m L)` and solves it by Jonker-Volgenant
-/// shortest augmenting paths ([`crate::assign`]), `O(m^3)` at worst but
+/// shortest augmenting paths ([`crate::numerics::assign`]), `O(m^3)` at worst but
 /// much less in practice because each solve starts from the prices of the
 /// previous one; a start takes a few to a few tens of rounds. Measured in
 /// release builds with two threads (criterion bench `benches/temperature.rs`
@@ -444,7 +445,7 @@ fn check_size(m: usize, n: usize) -> Result<()> {
     Ok(())
 }
 
-/// Temperature of a network's binary view in the given, sorted and
+/// Temperature of the binary view of any [`NetView`] in the given, sorted and
 /// (optionally) packed orders.
 ///
 /// `T = 100 sum(u_ij) / (m n U_max)`, `u_ij = (t*/D)^2` for unexpected cells
@@ -475,10 +476,31 @@ fn check_size(m: usize, n: usize) -> Result<()> {
 /// assert_eq!(t.packed, Some(0.0));
 /// assert_eq!(t.row_order, vec![1, 2, 0]);
 /// ```
-pub fn temperature<T: Weight>(net: &Network<T>, opts: &TemperatureOptions) -> Result<Temperature> {
-    check_size(net.nrows(), net.ncols())?;
-    let b = net.binary()?;
-    temperature_of_bits(&b, opts)
+pub fn temperature<V: NetView + ?Sized>(
+    view: &V,
+    opts: &TemperatureOptions,
+) -> Result<Temperature> {
+    check_size(view.nrows(), view.ncols())?;
+    temperature_of_bits(&*view.bits()?, opts)
+}
+
+/// Registry evaluator of `temperature` (packed order, packing on).
+pub(crate) fn packed(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
+    let opts = TemperatureOptions {
+        pack: true,
+        ..o.temperature
+    };
+    let t = temperature(v, &opts)?;
+    Ok(t.packed.unwrap_or(t.sorted))
+}
+
+/// Registry evaluator of `temperature-sorted` (no packing search).
+pub(crate) fn sorted(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
+    let opts = TemperatureOptions {
+        pack: false,
+        ..o.temperature
+    };
+    Ok(temperature(v, &opts)?.sorted)
 }
 
 /// [`temperature`] of a bit-packed binary matrix (null-model draws).
@@ -490,7 +512,7 @@ pub fn temperature<T: Weight>(net: &Network<T>, opts: &TemperatureOptions) -> Re
 /// do. The result is the same either way.
 ///
 /// Errors: an empty shape or more than [`TEMPERATURE_CELL_LIMIT`] cells.
-pub fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<Temperature> {
+pub(crate) fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<Temperature> {
     let key = (b.nrows(), b.ncols(), b.count_ones());
     let cached = LAST_TABLE.with(|c| {
         c.borrow()
@@ -511,7 +533,7 @@ pub fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<T
     temperature_with_table(b, &table, opts)
 }
 
-/// Largest table (in cells, 2^20: 16 MiB) that [`temperature_of_bits`]
+/// Largest table (in cells, 2^20: 16 MiB) that [`temperature`]
 /// keeps per thread for reuse.
 pub const TABLE_CACHE_CELLS: usize = 1 << 20;
 
@@ -520,9 +542,10 @@ thread_local! {
         const { std::cell::RefCell::new(None) };
 }
 
-/// [`temperature_of_bits`] with a table built beforehand (it must have been
-/// built for the same shape and number of ones, else
-/// [`Error::InvalidArgument`]).
+/// [`temperature`] of a bit matrix with a table built beforehand (it must
+/// have been built for the same shape and number of ones, else
+/// [`Error::InvalidArgument`]). A kernel for timing; not part of the API.
+#[doc(hidden)]
 pub fn temperature_with_table(
     b: &BitMatrix,
     table: &UnexpectednessTable,
@@ -580,9 +603,9 @@ pub fn temperature_with_table(
 /// assert!(u[[0, 0]] > 0.0); // an absence in the top-left corner
 /// assert_eq!(u[[2, 2]], 0.0); // an absence in the bottom-right corner
 /// ```
-pub fn unexpectedness<T: Weight>(net: &Network<T>) -> Result<ndarray::Array2<f64>> {
-    check_size(net.nrows(), net.ncols())?;
-    let b = net.binary()?;
+pub fn unexpectedness<V: NetView + ?Sized>(view: &V) -> Result<ndarray::Array2<f64>> {
+    check_size(view.nrows(), view.ncols())?;
+    let b = view.bits()?;
     let table = UnexpectednessTable::new(b.nrows(), b.ncols(), b.count_ones())?;
     Ok(ndarray::Array2::from_shape_fn(
         (b.nrows(), b.ncols()),

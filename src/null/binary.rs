@@ -2,12 +2,13 @@
 //! `proportional`, `fixed-rows`, `fixed-columns`. Each reads the binary view
 //! of the network.
 
+use rand::distr::Distribution;
 use rand::Rng;
 
-use crate::bits::BitMatrix;
 use crate::error::Result;
-use crate::network::{check_dense_size, Network, Weight};
 use crate::null::{floyd, unit};
+use crate::storage::BitMatrix;
+use crate::storage::{check_dense_size, Network, Weight};
 
 fn check_size<T: Weight>(net: &Network<T>) -> Result<()> {
     check_dense_size("a binary null matrix", net.nrows(), net.ncols(), 0)
@@ -193,5 +194,32 @@ impl FixedColumns {
             });
         }
         b
+    }
+}
+impl Distribution<BitMatrix> for Equiprobable {
+    /// One draw (see [`Equiprobable::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> BitMatrix {
+        Equiprobable::sample(self, rng)
+    }
+}
+
+impl Distribution<BitMatrix> for Proportional {
+    /// One draw (see [`Proportional::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> BitMatrix {
+        Proportional::sample(self, rng)
+    }
+}
+
+impl Distribution<BitMatrix> for FixedRows {
+    /// One draw (see [`FixedRows::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> BitMatrix {
+        FixedRows::sample(self, rng)
+    }
+}
+
+impl Distribution<BitMatrix> for FixedColumns {
+    /// One draw (see [`FixedColumns::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> BitMatrix {
+        FixedColumns::sample(self, rng)
     }
 }

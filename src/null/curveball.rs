@@ -3,8 +3,8 @@
 
 use rand::Rng;
 
-use crate::bits::BitMatrix;
-use crate::null::below;
+use crate::null::{below, Chain};
+use crate::storage::BitMatrix;
 
 /// A Markov chain over binary matrices with fixed row and column degrees
 /// whose stationary distribution is uniform (the curveball algorithm of
@@ -125,5 +125,18 @@ impl CurveballChain {
         rb.clear();
         rb.extend_from_slice(&self.shared);
         rb.extend_from_slice(&self.pool[only_a..]);
+    }
+}
+impl Chain for CurveballChain {
+    type State = BitMatrix;
+    /// One trade (see [`CurveballChain::step`]).
+    fn step<R: Rng + ?Sized>(&mut self, rng: &mut R) {
+        CurveballChain::step(self, rng)
+    }
+    fn state(&self) -> &BitMatrix {
+        &self.bits
+    }
+    fn into_state(self) -> BitMatrix {
+        self.bits
     }
 }

@@ -356,7 +356,7 @@ fn same_run(a: &NullRun, b: &NullRun) -> bool {
 /// use nidus::{index::IndexKind, Network};
 /// use nidus::null::{merge_runs, run_null, NullConfig, NullModel, SavedRun, Shard};
 /// let net = Network::from_array(array![[1, 1, 0], [1, 0, 1], [0, 1, 0]]).unwrap();
-/// let mut config = NullConfig::new(NullModel::FixedRows, vec![IndexKind::Nodf], 20, 5);
+/// let mut config = NullConfig::new(NullModel::FixedRows, vec![IndexKind::named("nodf").unwrap()], 20, 5);
 /// let whole = run_null(&net, &config).unwrap();
 /// let mut parts = Vec::new();
 /// for i in 1..=2 {

@@ -9,14 +9,22 @@
 //!   [`ShuffleWeights`] and [`FixedTotals`] (Patefield's algorithm).
 //!
 //! Independent-draw samplers are immutable values validated at construction:
-//! `new(&Network) -> Result<Self>` checks everything once and
-//! `sample(&self, rng)` cannot fail. The curveball is a Markov chain with
-//! `step`; [`NullSampler`] wraps every model behind one value and makes the
-//! `k`-th draw of a seeded run with [`draw_rng`].
+//! `new(&Network) -> Result<Self>` checks everything once, and they implement
+//! `rand::distr::Distribution` (binary models of [`BitMatrix`], weighted
+//! models of `Array2<f64>`), whose `sample(&self, rng)` cannot fail. The
+//! curveball is a Markov chain ([`Chain`]: `step`); [`BurnIn`] turns a chain
+//! into a `Distribution` whose every draw is its own chain run from the
+//! observed matrix. [`NullSampler`] wraps every built-in model behind one
+//! value and makes the `k`-th draw of a seeded run with [`draw_rng`].
+//!
+//! The runner [`run_test`] tests ANY set of [`Statistic`]s against ANY
+//! sampler (a `Distribution` of any [`NetView`]); [`run_null`] is the
+//! convenience layer over it for the built-in model and index names.
 //!
 //! # Adding a null model
 //! 1. A sampler file here: a type validated by `new(&Network) -> Result<Self>`
-//!    whose `sample(&self, rng)` cannot fail (or a chain type with `step`),
+//!    implementing `Distribution<BitMatrix>` or `Distribution<Array2<f64>>`
+//!    (or a [`Chain`] with `step`, drawn through [`BurnIn`]),
 //!    drawing randomness only through [`below`], [`unit()`] and the other
 //!    helpers of this module; rustdoc with the model, cost, reference and
 //!    an example.
@@ -54,14 +62,17 @@
 use std::fmt;
 use std::str::FromStr;
 
+use std::borrow::Cow;
+
 use ndarray::Array2;
-use rand::{Rng, SeedableRng};
+use rand::SeedableRng;
 use rand_xoshiro::Xoshiro256PlusPlus;
 use serde::Serialize;
 
-use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
-use crate::network::{Network, Weight};
+#[allow(unused_imports)] // named in the module documentation
+use crate::metrics::Statistic;
+use crate::storage::{BitMatrix, Csr, Layout, NetView, Network, Weight};
 
 mod binary;
 mod curveball;
@@ -74,8 +85,15 @@ pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
 pub use draws_file::{merge_runs, parse_draws, read_draws, SavedRun};
 pub use patefield::FixedTotals;
-pub use run::{run_null, run_null_with_progress, NullConfig, NullRun, Shard};
+pub use run::{
+    run_null, run_null_with_progress, run_test, run_test_with_progress, NullConfig, NullRun,
+    RunOptions, Shard, TestRun,
+};
 pub use weighted::{ShuffleCells, ShuffleWeights};
+
+/// `rand`'s sampling traits, re-exported so that a sampler of one's own can
+/// be written against the same `rand` version as nidus.
+pub use rand::{distr::Distribution, Rng};
 
 /// The null models, named as on the command line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
@@ -189,6 +207,109 @@ impl NullDraw {
     }
 }
 
+macro_rules! by_draw {
+    ($self:ident, $d:ident => $e:expr) => {
+        match $self {
+            NullDraw::Binary($d) => $e,
+            NullDraw::Weighted($d) => $e,
+        }
+    };
+}
+
+/// A draw is a view like any other: binary draws read their bits in
+/// place, weighted draws are dense tables.
+impl NetView for NullDraw {
+    fn nrows(&self) -> usize {
+        by_draw!(self, d => NetView::nrows(d))
+    }
+    fn ncols(&self) -> usize {
+        by_draw!(self, d => NetView::ncols(d))
+    }
+    fn row_degrees(&self) -> Cow<'_, [usize]> {
+        by_draw!(self, d => NetView::row_degrees(d))
+    }
+    fn col_degrees(&self) -> Cow<'_, [usize]> {
+        by_draw!(self, d => NetView::col_degrees(d))
+    }
+    fn links(&self) -> usize {
+        by_draw!(self, d => NetView::links(d))
+    }
+    fn is_weighted(&self) -> bool {
+        by_draw!(self, d => NetView::is_weighted(d))
+    }
+    fn layout(&self) -> Layout {
+        by_draw!(self, d => NetView::layout(d))
+    }
+    fn bits(&self) -> Result<Cow<'_, BitMatrix>> {
+        by_draw!(self, d => NetView::bits(d))
+    }
+    fn compressed_rows(&self) -> Result<Cow<'_, Csr<f64>>> {
+        by_draw!(self, d => NetView::compressed_rows(d))
+    }
+}
+
+/// A Markov chain over matrices (a swap algorithm such as the curveball):
+/// [`step`](Chain::step) moves it once. [`BurnIn`] makes independent draws
+/// from it.
+pub trait Chain: Clone + Send + Sync {
+    /// The matrix the chain walks over.
+    type State;
+    /// One move, drawing randomness from `rng` only.
+    fn step<R: Rng + ?Sized>(&mut self, rng: &mut R);
+    /// The current matrix.
+    fn state(&self) -> &Self::State;
+    /// The current matrix, consuming the chain.
+    fn into_state(self) -> Self::State;
+}
+
+/// A chain as a distribution: every draw clones the chain at its start (the
+/// observed matrix) and runs `steps` moves, so draws are independent given
+/// their random streams (and draw `k` of a run depends on `(seed, k)` only).
+///
+/// Cost per draw: one clone of the start plus `steps` moves.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use rand::distr::Distribution;
+/// use nidus::{null::{draw_rng, BurnIn, CurveballChain}, Network};
+/// let net = Network::from_array(array![[1, 1, 0], [1, 0, 0], [0, 1, 1]]).unwrap();
+/// let fixed_both = BurnIn::new(CurveballChain::new(&net.binary().unwrap()), 15);
+/// let b = fixed_both.sample(&mut draw_rng(5, 0));
+/// assert_eq!(b.row_degrees(), vec![2, 1, 2]);
+/// assert_eq!(b.col_degrees(), vec![2, 2, 1]);
+/// ```
+#[derive(Clone, Debug)]
+pub struct BurnIn<C> {
+    start: C,
+    steps: usize,
+}
+
+impl<C: Chain> BurnIn<C> {
+    /// Draws of `steps` moves from `start`.
+    pub fn new(start: C, steps: usize) -> Self {
+        BurnIn { start, steps }
+    }
+    /// Moves per draw.
+    pub fn steps(&self) -> usize {
+        self.steps
+    }
+    /// The start of every draw.
+    pub fn start(&self) -> &C {
+        &self.start
+    }
+}
+
+impl<C: Chain> Distribution<C::State> for BurnIn<C> {
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> C::State {
+        let mut chain = self.start.clone();
+        for _ in 0..self.steps {
+            chain.step(rng);
+        }
+        chain.into_state()
+    }
+}
+
 /// Any model behind one value, validated once.
 #[derive(Clone, Debug)]
 pub struct NullSampler {
@@ -202,10 +323,7 @@ enum Inner {
     Proportional(Proportional),
     FixedRows(FixedRows),
     FixedColumns(FixedColumns),
-    FixedBoth {
-        start: CurveballChain,
-        burn_in: usize,
-    },
+    FixedBoth(BurnIn<CurveballChain>),
     ShuffleCells(ShuffleCells),
     ShuffleWeights(ShuffleWeights),
     FixedTotals(FixedTotals),
@@ -231,7 +349,7 @@ impl NullSampler {
                 let burn_in = options
                     .burn_in
                     .unwrap_or_else(|| CurveballChain::default_burn_in(net.nrows(), net.ncols()));
-                Inner::FixedBoth { start, burn_in }
+                Inner::FixedBoth(BurnIn::new(start, burn_in))
             }
             NullModel::ShuffleCells => Inner::ShuffleCells(ShuffleCells::new(net)?),
             NullModel::ShuffleWeights => Inner::ShuffleWeights(ShuffleWeights::new(net)?),
@@ -248,7 +366,7 @@ impl NullSampler {
     /// Curveball trades per draw (`fixed-both` only).
     pub fn burn_in(&self) -> Option<usize> {
         match &self.inner {
-            Inner::FixedBoth { burn_in, .. } => Some(*burn_in),
+            Inner::FixedBoth(b) => Some(b.steps()),
             _ => None,
         }
     }
@@ -261,11 +379,7 @@ impl NullSampler {
             Inner::Proportional(s) => NullDraw::Binary(s.sample(rng)),
             Inner::FixedRows(s) => NullDraw::Binary(s.sample(rng)),
             Inner::FixedColumns(s) => NullDraw::Binary(s.sample(rng)),
-            Inner::FixedBoth { start, burn_in } => {
-                let mut chain = start.clone();
-                chain.run(rng, *burn_in);
-                NullDraw::Binary(chain.into_matrix())
-            }
+            Inner::FixedBoth(s) => NullDraw::Binary(s.sample(rng)),
             Inner::ShuffleCells(s) => NullDraw::Weighted(s.sample(rng)),
             Inner::ShuffleWeights(s) => NullDraw::Weighted(s.sample(rng)),
             Inner::FixedTotals(s) => NullDraw::Weighted(s.sample(rng)),
@@ -276,6 +390,13 @@ impl NullSampler {
     /// [`draw_rng`]`(seed, k)`.
     pub fn draw(&self, seed: u64, k: u64) -> NullDraw {
         self.sample(&mut draw_rng(seed, k))
+    }
+}
+
+impl Distribution<NullDraw> for NullSampler {
+    /// One draw (see [`NullSampler::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> NullDraw {
+        NullSampler::sample(self, rng)
     }
 }
 

@@ -2,11 +2,12 @@
 //! (Patefield 1981, Applied Statistics 30:91-97, algorithm AS 159).
 
 use ndarray::Array2;
+use rand::distr::Distribution;
 use rand::Rng;
 
 use crate::error::{Error, Result};
-use crate::network::{Network, Weight};
 use crate::null::unit;
+use crate::storage::{Network, Weight};
 
 /// Largest total count accepted: counts and sums stay exact in `f64`.
 const MAX_TOTAL: u64 = 1 << 53;
@@ -63,7 +64,7 @@ pub struct FixedTotals {
 impl FixedTotals {
     /// Checks that every weight is a whole number and prepares the model.
     pub fn new<T: Weight>(net: &Network<T>) -> Result<Self> {
-        crate::network::check_dense_size(
+        crate::storage::check_dense_size(
             "a table of counts",
             net.nrows(),
             net.ncols(),
@@ -225,6 +226,13 @@ impl FixedTotals {
             t[[m - 1, j]] = cols_left[j] as f64;
         }
         t
+    }
+}
+
+impl Distribution<Array2<f64>> for FixedTotals {
+    /// One draw (see [`FixedTotals::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> Array2<f64> {
+        FixedTotals::sample(self, rng)
     }
 }
 

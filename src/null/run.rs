@@ -1,18 +1,21 @@
-//! Seeded, parallel null-model tests: many draws of one model, several
-//! indices evaluated on each, summarised per index (METHODS.md §7).
+//! Seeded, parallel null-model tests (METHODS.md §7): [`run_test`] evaluates
+//! any statistics on many draws of any sampler and keeps the values in draw
+//! order; [`run_null`] is its convenience layer for the built-in model and
+//! index names.
 
 use std::fmt;
 use std::str::FromStr;
 
+use rand::distr::Distribution;
 use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::error::{Error, Result};
-use crate::index::{evaluate, evaluate_bits, IndexKind, IndexOptions};
-use crate::metrics::Order;
-use crate::network::{Network, Weight};
-use crate::null::{NullDraw, NullModel, NullOptions, NullSampler};
+use crate::index::{IndexKind, IndexOptions};
+use crate::metrics::{Direction, Order, Statistic};
+use crate::null::{draw_rng, NullModel, NullOptions, NullSampler};
 use crate::significance::{as_extreme, stopping_point, summarize, NullSummary};
+use crate::storage::{NetView, Network, Weight};
 
 /// Draws evaluated together between progress reports and stop checks. A
 /// constant (not a function of the thread count) so that a sequential stop
@@ -74,6 +77,64 @@ impl Serialize for Shard {
     }
 }
 
+/// How to run a test of any statistics against any sampler: the number of
+/// draws, the seed and how the work is spread.
+#[derive(Clone, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub struct RunOptions {
+    /// Number of draws `R` (at least 2).
+    pub draws: usize,
+    /// The run's seed; draw `k` uses [`crate::null::draw_rng`]`(seed, k)`.
+    pub seed: u64,
+    /// Worker threads; `None` runs in the current rayon pool. Results do not
+    /// depend on it.
+    pub threads: Option<usize>,
+    /// Compute only this shard's draws (the summary needs all shards merged).
+    pub shard: Option<Shard>,
+    /// Sequential stop of Besag & Clifford after `H` extreme draws (at least
+    /// 2); not combinable with a shard.
+    pub stop_after: Option<usize>,
+}
+
+impl RunOptions {
+    /// `draws` draws from `seed`, no shard, no stop, the current pool.
+    pub fn new(draws: usize, seed: u64) -> Self {
+        RunOptions {
+            draws,
+            seed,
+            threads: None,
+            shard: None,
+            stop_after: None,
+        }
+    }
+
+    fn check(&self) -> Result<()> {
+        if self.draws < 2 {
+            return Err(Error::InvalidArgument(format!(
+                "a null-model test needs at least 2 draws, got {}",
+                self.draws
+            )));
+        }
+        if let Some(h) = self.stop_after {
+            if h < 2 {
+                return Err(Error::InvalidArgument(format!(
+                    "the sequential stop needs H >= 2 extreme draws, got {h}"
+                )));
+            }
+            if self.shard.is_some() {
+                return Err(Error::InvalidArgument(
+                    "a sequential stop decides on the draws in order and cannot be split into shards"
+                        .into(),
+                ));
+            }
+        }
+        if self.threads == Some(0) {
+            return Err(Error::InvalidArgument("threads must be at least 1".into()));
+        }
+        Ok(())
+    }
+}
+
 /// What to run: one model, the indices to test, how many draws and how.
 #[derive(Clone, Debug)]
 pub struct NullConfig {
@@ -116,32 +177,22 @@ impl NullConfig {
         }
     }
 
+    /// The runner's part of the configuration.
+    pub fn run_options(&self) -> RunOptions {
+        RunOptions {
+            draws: self.draws,
+            seed: self.seed,
+            threads: self.threads,
+            shard: self.shard,
+            stop_after: self.stop_after,
+        }
+    }
+
     fn check(&self) -> Result<()> {
         if self.indices.is_empty() {
             return Err(Error::InvalidArgument("no index to test".into()));
         }
-        if self.draws < 2 {
-            return Err(Error::InvalidArgument(format!(
-                "a null-model test needs at least 2 draws, got {}",
-                self.draws
-            )));
-        }
-        if let Some(h) = self.stop_after {
-            if h < 2 {
-                return Err(Error::InvalidArgument(format!(
-                    "the sequential stop needs H >= 2 extreme draws, got {h}"
-                )));
-            }
-            if self.shard.is_some() {
-                return Err(Error::InvalidArgument(
-                    "a sequential stop decides on the draws in order and cannot be split into shards"
-                        .into(),
-                ));
-            }
-        }
-        if self.threads == Some(0) {
-            return Err(Error::InvalidArgument("threads must be at least 1".into()));
-        }
+        self.run_options().check()?;
         if !self.model.is_weighted() {
             if let Some(k) = self.indices.iter().find(|k| k.needs_weights()) {
                 return Err(Error::InvalidArgument(format!(
@@ -194,26 +245,16 @@ impl NullRun {
     /// `0..R`, or, with a sequential stop, draws `0..t` among which every
     /// index has reached its stop.
     pub fn is_complete(&self) -> bool {
-        if self.shard.is_some()
-            || self.draw_ids.len() > self.draws
-            || self
-                .draw_ids
-                .iter()
-                .enumerate()
-                .any(|(t, &k)| k != t as u64)
-        {
-            return false;
-        }
-        if self.draw_ids.len() == self.draws {
-            return true;
-        }
-        // Fewer draws than requested: only a sequential stop that every
-        // index has reached explains it.
-        self.stop_after.is_some_and(|h| {
-            self.indices.iter().enumerate().all(|(i, k)| {
-                stopping_point(self.observed[i], &self.values_of(i), k.more_nested(), h).is_some()
-            })
-        })
+        let directions: Vec<Direction> = self.indices.iter().map(|k| k.more_nested()).collect();
+        complete(
+            self.shard,
+            self.draws,
+            &self.draw_ids,
+            self.stop_after,
+            &self.observed,
+            &directions,
+            |i| self.values_of(i),
+        )
     }
 
     /// The null values of index number `i`, in draw order.
@@ -225,12 +266,7 @@ impl NullRun {
     /// for a shard or an incomplete run (merge the shards first).
     pub fn summaries(&self) -> Result<Vec<NullSummary>> {
         if !self.is_complete() {
-            return Err(Error::InvalidArgument(format!(
-                "these are {} of the {} draws (shard {}); merge every shard before summarising",
-                self.draw_ids.len(),
-                self.draws,
-                self.shard.map_or("-".to_string(), |s| s.to_string())
-            )));
+            return Err(incomplete(self.draw_ids.len(), self.draws, self.shard));
         }
         self.indices
             .iter()
@@ -247,6 +283,237 @@ impl NullRun {
     }
 }
 
+fn incomplete(have: usize, draws: usize, shard: Option<Shard>) -> Error {
+    Error::InvalidArgument(format!(
+        "these are {have} of the {draws} draws (shard {}); merge every shard before summarising",
+        shard.map_or("-".to_string(), |s| s.to_string())
+    ))
+}
+
+/// True when draws `0..R` are all there (or, with a sequential stop, draws
+/// `0..t` by which every statistic has reached its stop), unsharded.
+fn complete(
+    shard: Option<Shard>,
+    draws: usize,
+    draw_ids: &[u64],
+    stop_after: Option<usize>,
+    observed: &[f64],
+    directions: &[Direction],
+    values_of: impl Fn(usize) -> Vec<f64>,
+) -> bool {
+    if shard.is_some()
+        || draw_ids.len() > draws
+        || draw_ids.iter().enumerate().any(|(t, &k)| k != t as u64)
+    {
+        return false;
+    }
+    if draw_ids.len() == draws {
+        return true;
+    }
+    // Fewer draws than requested: only a sequential stop that every
+    // statistic has reached explains it.
+    stop_after.is_some_and(|h| {
+        directions
+            .iter()
+            .enumerate()
+            .all(|(i, &d)| stopping_point(observed[i], &values_of(i), d, h).is_some())
+    })
+}
+
+/// The draws of a test of any statistics against any sampler (see
+/// [`run_test`]), in draw order.
+#[derive(Clone, Debug, Serialize)]
+pub struct TestRun {
+    /// The statistics' names, in the order of the values of each draw.
+    pub names: Vec<String>,
+    /// Each statistic's "more nested" direction.
+    pub directions: Vec<Direction>,
+    /// Observed value of each statistic.
+    pub observed: Vec<f64>,
+    /// The options the run was made with.
+    #[serde(skip)]
+    pub options: RunOptions,
+    /// Indices `k` of the draws computed, ascending.
+    pub draw_ids: Vec<u64>,
+    /// `values[t][i]`: statistic `i` on draw `draw_ids[t]`.
+    pub values: Vec<Vec<f64>>,
+}
+
+impl TestRun {
+    /// The null values of statistic number `i`, in draw order.
+    pub fn values_of(&self, i: usize) -> Vec<f64> {
+        self.values.iter().map(|v| v[i]).collect()
+    }
+
+    /// True when the run holds every draw it needs (see
+    /// [`NullRun::is_complete`]).
+    pub fn is_complete(&self) -> bool {
+        complete(
+            self.options.shard,
+            self.options.draws,
+            &self.draw_ids,
+            self.options.stop_after,
+            &self.observed,
+            &self.directions,
+            |i| self.values_of(i),
+        )
+    }
+
+    /// One summary per statistic (observed, mean, sd, z, one-sided
+    /// p-values, quantiles). Errors for a shard or an incomplete run.
+    pub fn summaries(&self) -> Result<Vec<NullSummary>> {
+        if !self.is_complete() {
+            return Err(incomplete(
+                self.draw_ids.len(),
+                self.options.draws,
+                self.options.shard,
+            ));
+        }
+        (0..self.names.len())
+            .map(|i| {
+                summarize(
+                    self.observed[i],
+                    &self.values_of(i),
+                    self.directions[i],
+                    self.options.stop_after,
+                )
+            })
+            .collect()
+    }
+}
+
+/// Tests any statistics against any sampler: see [`run_test_with_progress`].
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::metrics::registry::{lookup, IndexOptions};
+/// use nidus::null::{run_test, Equiprobable, RunOptions};
+/// use nidus::{Network, Statistic};
+/// let net = Network::from_array(array![
+///     [1, 1, 1, 1, 1], [1, 1, 1, 1, 0], [1, 1, 1, 0, 0], [1, 1, 0, 0, 0], [1, 0, 0, 0, 0]
+/// ]).unwrap();
+/// let nodf = lookup("nodf").unwrap().with(IndexOptions::default());
+/// let sampler = Equiprobable::new(&net).unwrap();
+/// let run = run_test(&net, &[&nodf], &sampler, &RunOptions::new(99, 1)).unwrap();
+/// let s = &run.summaries().unwrap()[0];
+/// assert_eq!(s.observed, 100.0);
+/// assert!(s.p_greater < 0.05);
+/// ```
+pub fn run_test<D, M>(
+    observed: &dyn NetView,
+    statistics: &[&dyn Statistic],
+    sampler: &D,
+    options: &RunOptions,
+) -> Result<TestRun>
+where
+    D: Distribution<M> + Sync,
+    M: NetView,
+{
+    run_test_with_progress(observed, statistics, sampler, options, &|_| {})
+}
+
+/// Tests any statistics against any sampler, calling `progress(done)` after
+/// each batch of draws with the number of this run's draws done so far.
+///
+/// Every statistic is evaluated on `observed` and on every draw. Draw `k`
+/// is `sampler.sample(&mut `[`draw_rng`]`(seed, k))`; draws are computed in
+/// parallel in batches of [`BATCH`] in draw order and stored in draw order,
+/// so the values (and the summaries) are identical for any thread count,
+/// and the draws of shards `1/K..K/K` together are exactly the draws of the
+/// unsplit run. With a sequential stop the run ends after the first batch
+/// by which every statistic has its `H` extreme draws.
+///
+/// A sampler is any `rand::distr::Distribution` of a [`NetView`]: the
+/// built-in models, a [`crate::null::BurnIn`] chain, or a user's own.
+///
+/// Cost: `R` draws plus `R` evaluations of each statistic; memory `O(R x
+/// statistics)` values plus one matrix per thread.
+///
+/// Errors: bad options (fewer than 2 draws, a stop with shards, no
+/// statistic, ...), or a statistic that fails on the observed view or on a
+/// draw (the first failing draw in draw order).
+pub fn run_test_with_progress<D, M>(
+    observed: &dyn NetView,
+    statistics: &[&dyn Statistic],
+    sampler: &D,
+    options: &RunOptions,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<TestRun>
+where
+    D: Distribution<M> + Sync,
+    M: NetView,
+{
+    if statistics.is_empty() {
+        return Err(Error::InvalidArgument("no statistic to test".into()));
+    }
+    options.check()?;
+    let go = || test_inner(observed, statistics, sampler, options, progress);
+    match options.threads {
+        Some(t) => rayon::ThreadPoolBuilder::new()
+            .num_threads(t)
+            .build()
+            .map_err(|e| Error::InvalidArgument(format!("cannot start {t} threads: {e}")))?
+            .install(go),
+        None => go(),
+    }
+}
+
+fn test_inner<D, M>(
+    observed_view: &dyn NetView,
+    statistics: &[&dyn Statistic],
+    sampler: &D,
+    options: &RunOptions,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<TestRun>
+where
+    D: Distribution<M> + Sync,
+    M: NetView,
+{
+    let observed: Vec<f64> = statistics
+        .iter()
+        .map(|s| s.evaluate(observed_view))
+        .collect::<Result<_>>()?;
+    let directions: Vec<Direction> = statistics.iter().map(|s| s.more_nested()).collect();
+    let eval = |k: u64| -> Result<Vec<f64>> {
+        let draw: M = sampler.sample(&mut draw_rng(options.seed, k));
+        statistics.iter().map(|s| s.evaluate(&draw)).collect()
+    };
+    let ids: Vec<u64> = (0..options.draws as u64)
+        .filter(|&k| options.shard.is_none_or(|s| s.contains(k)))
+        .collect();
+    let mut draw_ids = Vec::with_capacity(ids.len());
+    let mut values = Vec::with_capacity(ids.len());
+    let mut hits = vec![0usize; statistics.len()];
+    for batch in ids.chunks(BATCH) {
+        let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
+        for (&k, v) in batch.iter().zip(got) {
+            let v = v?;
+            for (i, &d) in directions.iter().enumerate() {
+                if as_extreme(v[i], observed[i], d) {
+                    hits[i] += 1;
+                }
+            }
+            draw_ids.push(k);
+            values.push(v);
+        }
+        progress(draw_ids.len());
+        if let Some(h) = options.stop_after {
+            if hits.iter().all(|&c| c >= h) {
+                break;
+            }
+        }
+    }
+    Ok(TestRun {
+        names: statistics.iter().map(|s| s.name().to_string()).collect(),
+        directions,
+        observed,
+        options: options.clone(),
+        draw_ids,
+        values,
+    })
+}
+
 /// Runs a null-model test: see [`run_null_with_progress`].
 ///
 /// # Example
@@ -256,7 +523,7 @@ impl NullRun {
 /// let net = Network::from_array(array![
 ///     [1, 1, 1, 1, 1], [1, 1, 1, 1, 0], [1, 1, 1, 0, 0], [1, 1, 0, 0, 0], [1, 0, 0, 0, 0]
 /// ]).unwrap();
-/// let config = NullConfig::new(NullModel::Equiprobable, vec![IndexKind::Nodf], 99, 1);
+/// let config = NullConfig::new(NullModel::Equiprobable, vec![IndexKind::named("nodf").unwrap()], 99, 1);
 /// let run = run_null(&net, &config).unwrap();
 /// let s = &run.summaries().unwrap()[0];
 /// assert_eq!(s.observed, 100.0);
@@ -278,9 +545,10 @@ pub fn run_null<T: Weight>(net: &Network<T>, config: &NullConfig) -> Result<Null
 /// has its `H` extreme draws; [`NullRun::summaries`] applies the rule in
 /// draw order.
 ///
-/// Binary models are tested with the binary view (indices evaluated with
-/// [`evaluate_bits`] on the observed view and on the draws); weighted
-/// models with [`evaluate`] on the network and on each drawn table.
+/// The convenience layer over [`run_test`] for the built-in names: the
+/// model's sampler ([`NullSampler`]) and the indices' statistics. Binary
+/// models are tested on the binary view of the observed network; weighted
+/// models on the network and on each drawn table.
 ///
 /// Cost: `R` draws plus `R` evaluations of each index; memory `O(R x
 /// indices)` values plus one matrix per thread.
@@ -311,71 +579,21 @@ fn run_inner<T: Weight>(
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<NullRun> {
     let sampler = NullSampler::new(net, config.model, &config.options)?;
-    let opts = IndexOptions {
-        order: config.order,
-        ..IndexOptions::default()
-    };
-    let template = net.to_f64();
-    let observed: Vec<f64> = if config.model.is_weighted() {
-        config
-            .indices
-            .iter()
-            .map(|&k| evaluate(k, &template, &opts))
-            .collect::<Result<_>>()?
+    let opts = IndexOptions::with_order(config.order);
+    let stats: Vec<_> = config.indices.iter().map(|k| k.statistic(opts)).collect();
+    let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
+    let options = config.run_options();
+    // Binary models are tested on the binary view of the observed network.
+    let run = if config.model.is_weighted() {
+        test_inner(net, &stats, &sampler, &options, progress)?
     } else {
         let b = net.binary()?;
-        config
-            .indices
-            .iter()
-            .map(|&k| evaluate_bits(k, &b, &opts))
-            .collect::<Result<_>>()?
+        test_inner(&b, &stats, &sampler, &options, progress)?
     };
-    let eval = |k: u64| -> Result<Vec<f64>> {
-        match sampler.draw(config.seed, k) {
-            NullDraw::Binary(b) => config
-                .indices
-                .iter()
-                .map(|&i| evaluate_bits(i, &b, &opts))
-                .collect(),
-            NullDraw::Weighted(w) => {
-                let drawn = template.with_weights(w)?;
-                config
-                    .indices
-                    .iter()
-                    .map(|&i| evaluate(i, &drawn, &opts))
-                    .collect()
-            }
-        }
-    };
-    let ids: Vec<u64> = (0..config.draws as u64)
-        .filter(|&k| config.shard.is_none_or(|s| s.contains(k)))
-        .collect();
-    let mut draw_ids = Vec::with_capacity(ids.len());
-    let mut values = Vec::with_capacity(ids.len());
-    let mut hits = vec![0usize; config.indices.len()];
-    for batch in ids.chunks(BATCH) {
-        let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
-        for (&k, v) in batch.iter().zip(got) {
-            let v = v?;
-            for (i, kind) in config.indices.iter().enumerate() {
-                if as_extreme(v[i], observed[i], kind.more_nested()) {
-                    hits[i] += 1;
-                }
-            }
-            draw_ids.push(k);
-            values.push(v);
-        }
-        progress(draw_ids.len());
-        if let Some(h) = config.stop_after {
-            if hits.iter().all(|&c| c >= h) {
-                break;
-            }
-        }
-    }
     Ok(NullRun {
         model: config.model,
         indices: config.indices.clone(),
-        observed,
+        observed: run.observed,
         seed: config.seed,
         draws: config.draws,
         shard: config.shard,
@@ -383,7 +601,7 @@ fn run_inner<T: Weight>(
         burn_in: sampler.burn_in(),
         order: config.order,
         shape: (net.nrows(), net.ncols(), net.links()),
-        draw_ids,
-        values,
+        draw_ids: run.draw_ids,
+        values: run.values,
     })
 }

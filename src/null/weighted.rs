@@ -2,11 +2,12 @@
 //! `shuffle-weights`.
 
 use ndarray::Array2;
+use rand::distr::Distribution;
 use rand::Rng;
 
 use crate::error::Result;
-use crate::network::{Network, Weight};
 use crate::null::shuffle;
+use crate::storage::{Network, Weight};
 
 /// `shuffle-cells`: all `m n` cell values (zeros included) permuted
 /// uniformly. On a binary network this is the `equiprobable` model with
@@ -71,7 +72,7 @@ pub struct ShuffleWeights {
 impl ShuffleWeights {
     /// Prepares the model; errors only for a network too large for a dense table.
     pub fn new<T: Weight>(net: &Network<T>) -> Result<Self> {
-        crate::network::check_dense_size(
+        crate::storage::check_dense_size(
             "a weighted null matrix",
             net.nrows(),
             net.ncols(),
@@ -103,5 +104,18 @@ impl ShuffleWeights {
             w[c] = x;
         }
         w
+    }
+}
+impl Distribution<Array2<f64>> for ShuffleCells {
+    /// One draw (see [`ShuffleCells::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> Array2<f64> {
+        ShuffleCells::sample(self, rng)
+    }
+}
+
+impl Distribution<Array2<f64>> for ShuffleWeights {
+    /// One draw (see [`ShuffleWeights::sample`]).
+    fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> Array2<f64> {
+        ShuffleWeights::sample(self, rng)
     }
 }

@@ -6,6 +6,8 @@ use std::cmp::Reverse;
 use std::f64::consts::PI;
 
 use ndarray::Array2;
+
+use crate::Network;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
@@ -179,7 +181,8 @@ fn isocline_small_fill() {
         );
     }
     let e = 0.02;
-    let direct = 2.0 * crate::special::ln_gamma(1.0 + e) - crate::special::ln_gamma(1.0 + 2.0 * e);
+    let direct = 2.0 * crate::numerics::special::ln_gamma(1.0 + e)
+        - crate::numerics::special::ln_gamma(1.0 + 2.0 * e);
     let series = log_quadrant(e * (1.0 - 1e-15));
     // ln Gamma is good to about 1e-15 absolute, so the direct form carries
     // a relative error near 1e-12 here.

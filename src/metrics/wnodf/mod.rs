@@ -2,8 +2,11 @@
 //! 26:173-178).
 
 use crate::error::Result;
+use crate::metrics::registry::IndexOptions;
 use crate::metrics::{Order, Parts};
-use crate::network::{Network, Weight};
+use crate::storage::NetView;
+
+mod csr;
 
 /// WNODF and its row and column parts (each 0-100).
 ///
@@ -13,12 +16,14 @@ use crate::network::{Network, Weight};
 /// ties of degree are broken by decreasing total weight, which does not
 /// change the value (tied pairs score 0). A binary network has WNODF 0.
 ///
-/// Computed on compressed rows and columns for dense and sparse networks
-/// alike (see [`crate::metrics::sparse`]). Cost: `O(L log(max(m, n)))` in
+/// Computed on the compressed rows and columns of any [`NetView`], dense or
+/// sparse. Weights are compared as `f64` (exact for integers below 2^53).
+/// Cost: `O(L log(max(m, n)))` in
 /// the sorted order (a dominance count per column), `O(sum of squared
 /// degrees)` in the given order (the pairs sharing each column); memory
 /// `O(m + n + L)` beyond the network, plus one `O(m + n)` counter per
-/// parallel task. A densely stored network is first compressed (`O(m n)`).
+/// parallel task. A dense table is first compressed (`O(m n)`; a
+/// [`crate::Network`] keeps its compressed rows for later calls).
 ///
 /// Reference: Almeida-Neto & Ulrich (2011), Environmental Modelling &
 /// Software 26:173-178.
@@ -29,14 +34,22 @@ use crate::network::{Network, Weight};
 /// use nidus::{metrics::{wnodf, Order}, Network};
 /// let net = Network::from_array(array![[5, 4, 3], [2, 1, 0], [1, 0, 0]]).unwrap();
 /// assert_eq!(wnodf(&net, Order::Sorted).unwrap().total, 100.0);
+/// let w = array![[5, 4, 3], [2, 1, 0], [1, 0, 0]];
+/// assert_eq!(wnodf(&w.view(), Order::Sorted).unwrap().total, 100.0);
 /// ```
-pub fn wnodf<T: Weight>(net: &Network<T>, order: Order) -> Result<Parts> {
-    crate::metrics::sparse::wnodf_csr(&net.csr(), order)
+pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
+    csr::wnodf_csr(&*view.compressed_rows()?, order)
+}
+
+/// Registry evaluator of `wnodf`.
+pub(crate) fn total(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
+    Ok(wnodf(v, o.order)?.total)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::Network;
     use ndarray::array;
 
     /// METHODS.md §2: a binary matrix has WNODF 0.

@@ -48,7 +48,7 @@ fn lanczos_sum(z: f64) -> f64 {
 ///
 /// # Example
 /// ```
-/// use nidus::special::gamma;
+/// use nidus::numerics::special::gamma;
 /// assert!((gamma(5.0) - 24.0).abs() < 1e-12);
 /// assert!((gamma(0.5) - std::f64::consts::PI.sqrt()).abs() < 1e-14);
 /// ```
@@ -79,7 +79,7 @@ pub fn gamma(x: f64) -> f64 {
 ///
 /// # Example
 /// ```
-/// use nidus::special::ln_gamma;
+/// use nidus::numerics::special::ln_gamma;
 /// // ln(10!) = ln Gamma(11)
 /// assert!((ln_gamma(11.0) - 3_628_800f64.ln()).abs() < 1e-12);
 /// ```

@@ -47,7 +47,7 @@ pub struct Assignment {
 ///
 /// # Example
 /// ```
-/// use nidus::assign::assign;
+/// use nidus::numerics::assign::assign;
 /// // Rows are workers, columns jobs.
 /// let c = [4.0, 1.0, 3.0,
 ///          2.0, 0.0, 5.0,

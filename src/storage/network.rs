@@ -10,12 +10,13 @@
 
 use std::collections::HashMap;
 use std::fmt::{Debug, Display};
+use std::sync::OnceLock;
 
 use ndarray::{Array2, ArrayView2};
 use num_traits::{ToPrimitive, Zero};
 
-use crate::bits::BitMatrix;
 use crate::error::{Error, Result};
+use crate::storage::bits::BitMatrix;
 
 /// A weight type: any copyable number that can be compared and converted to
 /// `f64` (all primitive integers and floats qualify).
@@ -159,6 +160,26 @@ impl<T: Weight> Csr<T> {
         let (a, b) = (self.indptr[i], self.indptr[i + 1]);
         (&self.indices[a..b], &self.values[a..b])
     }
+    /// The same cells with weights as `f64` (exact for integers below 2^53).
+    pub(crate) fn to_f64(&self) -> Csr<f64> {
+        Csr {
+            nrows: self.nrows,
+            ncols: self.ncols,
+            indptr: self.indptr.clone(),
+            indices: self.indices.clone(),
+            values: self.values.iter().map(|x| x.as_f64()).collect(),
+        }
+    }
+
+    /// Compressed rows with every non-zero weight read as `f64`, borrowed
+    /// when they already are.
+    pub(crate) fn as_f64(&self) -> std::borrow::Cow<'_, Csr<f64>> {
+        match (self as &dyn std::any::Any).downcast_ref::<Csr<f64>>() {
+            Some(c) => std::borrow::Cow::Borrowed(c),
+            None => std::borrow::Cow::Owned(self.to_f64()),
+        }
+    }
+
     /// The transpose, also compressed by rows (that is, the compressed
     /// columns of `self`). Cost `O(m + n + L)`.
     pub fn transpose(&self) -> Csr<T> {
@@ -191,6 +212,16 @@ impl<T: Weight> Csr<T> {
     }
 }
 
+/// Views of a network built on first use and kept (a network never
+/// changes after construction): compressed rows and columns with `f64`
+/// weights, and the bit-packed binary view.
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Views {
+    pub(crate) rows: OnceLock<Csr<f64>>,
+    pub(crate) cols: OnceLock<Csr<f64>>,
+    pub(crate) bits: OnceLock<BitMatrix>,
+}
+
 #[derive(Clone, Debug)]
 enum Cells<T> {
     Dense(Array2<T>),
@@ -215,6 +246,7 @@ pub struct Network<T: Weight = f64> {
     cells: Cells<T>,
     row_degrees: Vec<usize>,
     col_degrees: Vec<usize>,
+    views: Views,
 }
 
 fn default_labels(prefix: &str, n: usize) -> Vec<String> {
@@ -294,6 +326,7 @@ impl<T: Weight> Network<T> {
             cells: Cells::Dense(weights),
             row_degrees,
             col_degrees,
+            views: Views::default(),
         };
         net.check_links()?;
         Ok(net)
@@ -387,6 +420,7 @@ impl<T: Weight> Network<T> {
             cells,
             row_degrees,
             col_degrees,
+            views: Views::default(),
         };
         net.check_links()?;
         Ok(net)
@@ -516,32 +550,46 @@ impl<T: Weight> Network<T> {
     pub fn binary(&self) -> Result<BitMatrix> {
         let (m, n) = (self.nrows(), self.ncols());
         check_dense_size("the bit-packed binary view", m, n, 0)?;
-        let b = match &self.cells {
-            // Whole words at a time, rows in parallel.
-            Cells::Dense(w) => BitMatrix::from_row_fn(m, n, |i, words| {
-                let row = w.row(i);
-                match row.as_slice() {
-                    Some(cells) => crate::kernels::pack::pack_row(cells, words),
-                    None => {
-                        for (j, c) in row.iter().enumerate() {
-                            if !c.is_zero() {
-                                words[j / 64] |= 1 << (j % 64);
-                            }
-                        }
-                    }
-                }
-            }),
-            Cells::Sparse(c) => {
-                let mut b = BitMatrix::zeros(m, n);
-                for i in 0..m {
-                    for &j in c.row(i).0 {
-                        b.set(i, j as usize, true);
-                    }
-                }
-                b
+        Ok(match &self.cells {
+            Cells::Dense(w) => pack_dense(w.view()),
+            Cells::Sparse(c) => pack_csr(c),
+        })
+    }
+    /// The cached bit-packed view (built on first use).
+    pub(crate) fn cached_bits(&self) -> Result<&BitMatrix> {
+        if let Some(b) = self.views.bits.get() {
+            return Ok(b);
+        }
+        let b = self.binary()?;
+        Ok(self.views.bits.get_or_init(|| b))
+    }
+    /// The cached compressed rows with `f64` weights (borrowed from a
+    /// sparse `Network<f64>`, else built on first use).
+    pub(crate) fn cached_rows(&self) -> &Csr<f64> {
+        if let Cells::Sparse(c) = &self.cells {
+            if let Some(c) = (c as &dyn std::any::Any).downcast_ref::<Csr<f64>>() {
+                return c;
             }
-        };
-        Ok(b)
+        }
+        self.views.rows.get_or_init(|| match &self.cells {
+            Cells::Dense(w) => {
+                let c: Box<dyn std::any::Any> = Box::new(Csr::from_dense(w.view()));
+                match c.downcast::<Csr<f64>>() {
+                    Ok(c) => *c,
+                    Err(c) => c
+                        .downcast::<Csr<T>>()
+                        .expect("the cells' own type")
+                        .to_f64(),
+                }
+            }
+            Cells::Sparse(c) => c.to_f64(),
+        })
+    }
+    /// The cached compressed columns with `f64` weights.
+    pub(crate) fn cached_cols(&self) -> &Csr<f64> {
+        self.views
+            .cols
+            .get_or_init(|| self.cached_rows().transpose())
     }
     /// The network with rows and columns swapped.
     pub fn transpose(&self) -> Network<T> {
@@ -555,6 +603,7 @@ impl<T: Weight> Network<T> {
             cells,
             row_degrees: self.col_degrees.clone(),
             col_degrees: self.row_degrees.clone(),
+            views: Views::default(),
         }
     }
     /// The same network with every weight converted to `f64`.
@@ -575,6 +624,7 @@ impl<T: Weight> Network<T> {
             cells,
             row_degrees: self.row_degrees.clone(),
             col_degrees: self.col_degrees.clone(),
+            views: Views::default(),
         }
     }
     /// A network with the same labels and new cells (used by null models);
@@ -584,7 +634,37 @@ impl<T: Weight> Network<T> {
     }
 }
 
-fn check_shape(m: usize, n: usize) -> Result<()> {
+/// Packs a dense table into bits (`1` where the weight is non-zero): whole
+/// words at a time, rows in parallel.
+pub(crate) fn pack_dense<T: Weight>(w: ArrayView2<'_, T>) -> BitMatrix {
+    let (m, n) = w.dim();
+    BitMatrix::from_row_fn(m, n, |i, words| {
+        let row = w.row(i);
+        match row.as_slice() {
+            Some(cells) => crate::kernels::pack::pack_row(cells, words),
+            None => {
+                for (j, c) in row.iter().enumerate() {
+                    if !c.is_zero() {
+                        words[j / 64] |= 1 << (j % 64);
+                    }
+                }
+            }
+        }
+    })
+}
+
+/// Packs compressed rows into bits.
+pub(crate) fn pack_csr<T: Weight>(c: &Csr<T>) -> BitMatrix {
+    let mut b = BitMatrix::zeros(c.nrows(), c.ncols());
+    for i in 0..c.nrows() {
+        for &j in c.row(i).0 {
+            b.set(i, j as usize, true);
+        }
+    }
+    b
+}
+
+pub(crate) fn check_shape(m: usize, n: usize) -> Result<()> {
     if m == 0 {
         return Err(Error::EmptyNetwork("it has no rows"));
     }

@@ -1,74 +1,24 @@
-//! NODF: nestedness based on overlap and decreasing fill
-//! (Almeida-Neto et al. 2008, Oikos 117:1227-1239).
+//! NODF on bit-packed rows: the kernels for densely stored networks and
+//! binary null draws (one AND and one popcount per word and pair, or a
+//! bit-sliced count of the rows above in the sorted order).
 
 use rayon::prelude::*;
 
-use crate::bits::BitMatrix;
 use crate::error::Result;
 use crate::kernels::popcount::{PanelKernel, PopcountPath, PANEL};
-use crate::metrics::{degree_order, Order, Parts};
-use crate::network::{Network, Weight};
+use crate::metrics::nodf::Nodf;
+use crate::metrics::{degree_order, side_value, Order, Parts};
+use crate::storage::BitMatrix;
 
-/// NODF and its row and column parts (each 0-100).
-pub type Nodf = Parts;
-
-/// NODF of a network's binary view.
-///
-/// For an ordered pair of rows (upper `u`, lower `l`) with `d_u > d_l` the
-/// pair scores `100 |N(u) ∩ N(l)| / d_l`, otherwise 0; `NODF_rows` is the mean
-/// over the `m(m-1)/2` pairs, `NODF_cols` likewise, and NODF the mean over
-/// all pairs of both sides. With [`Order::Sorted`] every unordered pair of
-/// different degrees scores against the smaller degree and ties score 0;
-/// with [`Order::Given`] a pair scores only when its earlier member has the
-/// larger degree. A side with fewer than two members gives `None` and the
-/// total uses the other side alone; a 1 x 1 network is an error.
-///
-/// Storage decides the kernel: a densely stored network goes through its
-/// bit-packed view ([`nodf_bits`]); a sparsely stored one through its
-/// compressed rows and columns ([`crate::metrics::sparse::nodf_csr`]),
-/// never through an `m x n` table. Both give the same value to the last bit.
-///
-/// Cost (dense): `O(m n)` to pack the view, then `O(m n log(m) / 64)` for the
-/// sorted order or `O((m^2 n + n^2 m) / 64)` word operations for the given
-/// order; memory `O(m n / 8)` bytes. See [`upper_overlaps`] for how.
-///
-/// Reference: Almeida-Neto, Guimarães, Guimarães, Loyola & Ulrich (2008),
-/// Oikos 117:1227-1239.
-///
-/// # Example
-/// ```
-/// use ndarray::array;
-/// use nidus::{metrics::{nodf, Order}, Network};
-/// // A staircase: rows and columns all of distinct degree, perfectly nested.
-/// let net = Network::from_array(array![[1, 1, 1], [1, 1, 0], [1, 0, 0]]).unwrap();
-/// let n = nodf(&net, Order::Sorted).unwrap();
-/// assert_eq!(n.total, 100.0);
-/// ```
-pub fn nodf<T: Weight>(net: &Network<T>, order: Order) -> Result<Nodf> {
-    if net.is_sparse() {
-        return crate::metrics::sparse::nodf_csr(&net.csr(), order);
-    }
-    let b = net.binary()?;
-    nodf_bits(&b, order)
+/// NODF of a bit-packed matrix on the fastest popcount path of this CPU.
+pub(crate) fn nodf_bits(b: &BitMatrix, order: Order) -> Result<Nodf> {
+    nodf_with_path(b, order, PopcountPath::detect())
 }
 
-/// NODF of a bit-packed binary matrix (see [`nodf`]), with the fastest
-/// popcount path of this CPU.
-///
-/// # Example
-/// ```
-/// use nidus::{metrics::{nodf_bits, Order}, BitMatrix};
-/// let b = BitMatrix::from_fn(3, 3, |i, j| j < 3 - i); // staircase
-/// assert_eq!(nodf_bits(&b, Order::Given).unwrap().total, 100.0);
-/// ```
-pub fn nodf_bits(b: &BitMatrix, order: Order) -> Result<Nodf> {
-    nodf_bits_with(b, order, PopcountPath::detect())
-}
-
-/// [`nodf_bits`] on a chosen popcount path (an unsupported path falls back
+/// NODF of a bit-packed matrix on a chosen popcount path (an unsupported path falls back
 /// to the portable one). All paths give the same value; for tests and
 /// timing.
-pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result<Nodf> {
+pub fn nodf_with_path(b: &BitMatrix, order: Order, path: PopcountPath) -> Result<Nodf> {
     let t = b.transpose();
     let side = |x: &BitMatrix| {
         let d = degrees_with(x, path);
@@ -81,28 +31,6 @@ pub fn nodf_bits_with(b: &BitMatrix, order: Order, path: PopcountPath) -> Result
         rayon::join(|| side(b), || side(&t))
     };
     Parts::from_sums("NODF", b.nrows(), b.ncols(), rows, cols)
-}
-
-/// Sum over the pairs of rows of `b` of the pair values (0-100 each).
-///
-/// For each lower row the overlaps with its uppers are summed as integers,
-/// then divided once by its degree; the per-row results are added in row
-/// order, so the value does not depend on the number of threads.
-#[allow(dead_code)] // the per-side sum other indices (null tests, contributions) reuse
-pub(crate) fn side_sum(b: &BitMatrix, order: Order) -> f64 {
-    let path = PopcountPath::detect();
-    let d = degrees_with(b, path);
-    side_value(&d, &upper_overlaps_with(b, &d, order, path))
-}
-
-/// `sum over rows l with d_l > 0, in row order, of 100 * overlaps[l] / d_l`.
-fn side_value(degrees: &[usize], overlaps: &[u64]) -> f64 {
-    degrees
-        .iter()
-        .zip(overlaps)
-        .filter(|(&d, _)| d > 0)
-        .map(|(&d, &o)| 100.0 * o as f64 / d as f64)
-        .sum()
 }
 
 /// For every row `l`, the sum of `|N(u) ∩ N(l)|` over its upper partners
@@ -218,7 +146,7 @@ fn overlaps_sorted(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<
             ov
         })
         .collect();
-    crate::metrics::add_up(parts, m)
+    crate::storage::lists::add_up(parts, m)
 }
 
 /// Matrices with fewer cells than this are handled on the calling thread.
@@ -268,26 +196,4 @@ fn overlaps_given(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<u
         ov.par_chunks_mut(BLOCK).enumerate().for_each(block);
     }
     ov
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use ndarray::array;
-
-    /// Worked by hand (common practice): an upper row of degree 5 and a lower
-    /// row of degree 4 sharing 3 partners score 75.
-    #[test]
-    fn pair_worked_by_hand() {
-        let net = Network::from_array(array![[1, 1, 1, 1, 1, 0], [1, 1, 1, 0, 0, 1]]).unwrap();
-        let n = nodf(&net, Order::Given).unwrap();
-        assert_eq!(n.rows, Some(75.0));
-    }
-
-    /// Two rows of equal degree score 0 however much they share (METHODS.md §1).
-    #[test]
-    fn equal_degrees_score_zero() {
-        let net = Network::from_array(array![[1, 1, 0], [1, 1, 0]]).unwrap();
-        assert_eq!(nodf(&net, Order::Sorted).unwrap().rows, Some(0.0));
-    }
 }

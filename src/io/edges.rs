@@ -1,0 +1,408 @@
+//! The edges layout: one interaction per line, labels interned in order of
+//! first appearance, and the header rule of [`EdgeHeader::Auto`].
+
+use super::*;
+
+/// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
+/// (24 bits of its hash and its length, capped at 255) and its index + 1
+/// (0: an empty slot).
+#[derive(Clone, Copy, Default)]
+struct Slot {
+    head: u64,
+    tag: u32,
+    id1: u32,
+}
+
+/// Labels in order of first appearance, with their indices: an
+/// open-addressing table of 16-byte slots (linear probing, load at most
+/// three quarters) over one string arena holding the labels. A label of up to eight
+/// bytes is found by reading one slot and nothing else; a longer one also
+/// reads the arena. A general map whose keys point into a large file reads
+/// three places far apart per lookup, which dominated reading time.
+pub(super) struct LabelIndex {
+    slots: Vec<Slot>,
+    arena: String,
+    /// End of label `k` in `arena`; it starts where label `k - 1` ends.
+    ends: Vec<usize>,
+}
+
+/// The first (up to) eight bytes of `b`, little-endian, zero padded.
+#[inline]
+fn head_word(b: &[u8]) -> u64 {
+    let mut w = [0u8; 8];
+    let k = b.len().min(8);
+    w[..k].copy_from_slice(&b[..k]);
+    u64::from_le_bytes(w)
+}
+
+/// The slot tag of a label with hash `hash` and `len` bytes.
+#[inline]
+fn slot_tag(hash: u64, len: usize) -> u32 {
+    (((hash >> 40) as u32) << 8) | len.min(255) as u32
+}
+
+impl LabelIndex {
+    pub(super) fn new() -> Self {
+        LabelIndex {
+            slots: vec![Slot::default(); 1024],
+            arena: String::new(),
+            ends: Vec::new(),
+        }
+    }
+
+    fn label(&self, k: usize) -> &str {
+        let start = if k == 0 { 0 } else { self.ends[k - 1] };
+        &self.arena[start..self.ends[k]]
+    }
+
+    /// Reads the first slot where a label of hash `hash` would be (to bring
+    /// it into cache).
+    #[inline]
+    fn peek(&self, hash: u64) -> u32 {
+        self.slots[hash as usize & (self.slots.len() - 1)].id1
+    }
+
+    /// The index of `label` (whose [`label_hash`] is `hash`), adding it when
+    /// new; `None` at 2^32 - 1 labels.
+    pub(super) fn get_or_insert(&mut self, label: &str, hash: u64) -> Option<u32> {
+        let b = label.as_bytes();
+        let head = head_word(b);
+        let tag = slot_tag(hash, b.len());
+        let mask = self.slots.len() - 1;
+        let mut pos = hash as usize & mask;
+        loop {
+            let s = self.slots[pos];
+            if s.id1 == 0 {
+                break;
+            }
+            // Equal tags and heads decide labels of up to 8 bytes (the tag
+            // holds the exact length below 255).
+            if s.tag == tag
+                && s.head == head
+                && (b.len() <= 8 || self.label(s.id1 as usize - 1) == label)
+            {
+                return Some(s.id1 - 1);
+            }
+            pos = (pos + 1) & mask;
+        }
+        let id1 = u32::try_from(self.ends.len() + 1).ok()?;
+        self.arena.push_str(label);
+        self.ends.push(self.arena.len());
+        self.slots[pos] = Slot { head, tag, id1 };
+        if 4 * self.ends.len() > 3 * self.slots.len() {
+            self.grow();
+        }
+        Some(id1 - 1)
+    }
+
+    /// Doubles the table.
+    fn grow(&mut self) {
+        let mut slots = vec![Slot::default(); 2 * self.slots.len()];
+        let mask = slots.len() - 1;
+        for s in self.slots.iter().filter(|s| s.id1 != 0) {
+            let hash = label_hash(self.label(s.id1 as usize - 1).as_bytes());
+            let mut pos = hash as usize & mask;
+            while slots[pos].id1 != 0 {
+                pos = (pos + 1) & mask;
+            }
+            slots[pos] = *s;
+        }
+        self.slots = slots;
+    }
+
+    pub(super) fn into_strings(self) -> Vec<String> {
+        (0..self.ends.len())
+            .map(|k| self.label(k).to_string())
+            .collect()
+    }
+}
+
+/// Edge lines whose labels are looked up together (see [`resolve_batch`]).
+const LOOKUP_BATCH: usize = 256;
+
+/// Turns a batch of `(row label, column label, weight)` into entries, in
+/// order. Label lookups are memory-bound (one cache miss each on a large
+/// table), so the slots of the whole batch are first read in one loop of
+/// independent loads, which the processor overlaps, then looked up.
+fn resolve_batch(
+    batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
+    chunk: &mut EdgeLines,
+    source: &Path,
+) -> Result<()> {
+    let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
+    let mut touched = 0u32;
+    for (h, (r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
+        *h = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
+        touched ^= chunk.rows.peek(h.0) ^ chunk.cols.peek(h.1);
+    }
+    std::hint::black_box(touched);
+    for (h, (r, c, w)) in hashes.iter().zip(batch.drain(..)) {
+        match (
+            chunk.rows.get_or_insert(&r, h.0),
+            chunk.cols.get_or_insert(&c, h.1),
+        ) {
+            (Some(i), Some(j)) => chunk.entries.push((i, j, w)),
+            _ => {
+                return Err(Error::InvalidArgument(format!(
+                    "{}: more than 2^32 - 1 distinct labels on one side",
+                    source.display()
+                )))
+            }
+        }
+    }
+    Ok(())
+}
+
+/// A fast hash of a short byte string (not resistant to crafted collisions:
+/// a hostile file can only make reading slower). Eight bytes at a time,
+/// `h = (h.rotate_left(5) ^ word) * K` with the odd constant `K` =
+/// 2^64 / golden ratio, then the length, then the final mix of MurmurHash3
+/// (Appleby), so that low and high bits both depend on every byte.
+#[inline]
+pub(super) fn label_hash(bytes: &[u8]) -> u64 {
+    const K: u64 = 0x9E37_79B9_7F4A_7C15;
+    let mut h = 0u64;
+    let mut chunks = bytes.chunks_exact(8);
+    for c in &mut chunks {
+        let mut w = [0u8; 8];
+        w.copy_from_slice(c);
+        h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    }
+    let rest = chunks.remainder();
+    let mut w = [0u8; 8];
+    w[..rest.len()].copy_from_slice(rest);
+    h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    h ^= bytes.len() as u64;
+    h ^= h >> 33;
+    h = h.wrapping_mul(0xFF51_AFD7_ED55_8CCD);
+    h ^= h >> 33;
+    h = h.wrapping_mul(0xC4CE_B9FE_1A85_EC53);
+    h ^ (h >> 33)
+}
+
+/// The edge lines of a file, with labels indexed.
+struct EdgeLines {
+    rows: LabelIndex,
+    cols: LabelIndex,
+    entries: Vec<(u32, u32, f64)>,
+    /// The line skipped as a header, if any.
+    header_line: Option<usize>,
+    /// A first line of two labels read as data for now, which
+    /// [`EdgeHeader::Auto`] judges once every line is read: its line and
+    /// labels.
+    candidate: Option<(usize, [String; 2])>,
+}
+
+/// Parses the edge lines that `fields` yields; `header` says how to treat
+/// the first non-blank line.
+fn edge_lines<'a>(
+    fields: &mut Fields<'a>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+) -> Result<EdgeLines> {
+    let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
+    let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
+    let decimal_comma = fields.delim == b';';
+    let lines_guess = fields.text.bytes().filter(|&b| b == b'\n').count() + 1;
+    let mut chunk = EdgeLines {
+        rows: LabelIndex::new(),
+        cols: LabelIndex::new(),
+        entries: Vec::with_capacity(lines_guess),
+        header_line: None,
+        candidate: None,
+    };
+    let mut first = true;
+    while let Some(line) = fields.next_record(&mut rec)? {
+        if first {
+            first = false;
+            let skip = match header {
+                EdgeHeader::Absent => false,
+                EdgeHeader::Present => true,
+                EdgeHeader::Auto => {
+                    let word_weight =
+                        rec.len() == 3 && !rec[2].is_empty() && !is_number(&rec[2], decimal_comma);
+                    if word_weight {
+                        report.notes.push(ReadNote::EdgeHeader {
+                            line,
+                            words: rec.iter().map(|w| w.to_string()).collect(),
+                            rule: HeaderRule::WeightNotNumber,
+                        });
+                    } else if (rec.len() == 2 || (rec.len() == 3 && rec[2].is_empty()))
+                        && !rec[0].is_empty()
+                        && !rec[1].is_empty()
+                    {
+                        chunk.candidate = Some((line, [rec[0].to_string(), rec[1].to_string()]));
+                    }
+                    word_weight
+                }
+            };
+            if skip {
+                chunk.header_line = Some(line);
+                continue;
+            }
+        }
+        if rec.len() < 2 {
+            return Err(fields.error(
+                line,
+                None,
+                format!(
+                    "this line has 1 field (\"{}\"); expected a row label, a column label and an optional weight, separated by '{}'",
+                    rec[0],
+                    delim_name(fields.delim)
+                ),
+            ));
+        }
+        if rec.len() > 3 {
+            return Err(fields.error(
+                line,
+                None,
+                format!(
+                    "this line has {} fields; expected at most 3: a row label, a column label and an optional weight{}",
+                    rec.len(),
+                    if rec.len() == 4 {
+                        decimal_comma_hint(fields.delim, true)
+                    } else {
+                        " (is the file in the matrix layout rather than an edge list?)"
+                    }
+                ),
+            ));
+        }
+        let weight = match rec.get(2) {
+            None => 1.0,
+            Some(w) if w.is_empty() => 1.0,
+            Some(w) => fields.value(w, line, 3, "a missing or empty weight counts as 1")?,
+        };
+        if rec.iter().all(|f| f.is_empty()) {
+            return Err(fields.error(line, None, EMPTY_FIELDS.into()));
+        }
+        for (k, side) in [(0usize, "row"), (1, "column")] {
+            if rec[k].is_empty() {
+                return Err(fields.error(
+                    line,
+                    Some(k + 1),
+                    format!("empty {side} label; expected a label"),
+                ));
+            }
+        }
+        let r = std::mem::take(&mut rec[0]);
+        let c = std::mem::take(&mut rec[1]);
+        batch.push((r, c, weight));
+        if batch.len() == LOOKUP_BATCH {
+            resolve_batch(&mut batch, &mut chunk, fields.source)?;
+        }
+    }
+    resolve_batch(&mut batch, &mut chunk, fields.source)?;
+    Ok(chunk)
+}
+
+/// Reads an edge list (all lines in one pass; see [`edge_lines`]), then
+/// judges a first line of two labels (see [`judge_first_line`]).
+pub(super) fn parse_edges(
+    fields: &mut Fields<'_>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+) -> Result<Table> {
+    let mut chunk = edge_lines(fields, header, report)?;
+    if chunk.entries.is_empty() {
+        return Err(match chunk.header_line {
+            Some(l) => fields.error(
+                l,
+                None,
+                "the file has a header but no data lines; expected one line per interaction after it".into(),
+            ),
+            None => fields.error(
+                1,
+                None,
+                "the file is empty; expected one line per interaction: row label, column label, optional weight".into(),
+            ),
+        });
+    }
+    let mut rows = chunk.rows.into_strings();
+    let mut cols = chunk.cols.into_strings();
+    if let Some((line, words)) = chunk.candidate.take() {
+        if judge_first_line(
+            fields,
+            &chunk.entries,
+            (rows.len(), cols.len()),
+            line,
+            &words,
+        )? {
+            // Its labels are row 0 and column 0 and appear nowhere else.
+            chunk.entries.remove(0);
+            for e in &mut chunk.entries {
+                e.0 -= 1;
+                e.1 -= 1;
+            }
+            rows.remove(0);
+            cols.remove(0);
+            report.notes.push(ReadNote::EdgeHeader {
+                line,
+                words: words.to_vec(),
+                rule: HeaderRule::LabelsAppearOnce,
+            });
+        }
+    }
+    Ok(Table {
+        rows,
+        cols,
+        cells: TableCells::Triplets(chunk.entries),
+    })
+}
+
+/// The rule of [`EdgeHeader::Auto`] for a first line of two labels
+/// (`entries[0]`, labels row 0 and column 0), [`HeaderRule::LabelsAppearOnce`]:
+/// * either label appears on another line (in its own column): data;
+/// * neither does, there are at least [`HEADER_MIN_LINES`] lines below it,
+///   and every line below shares its row or its column label with another
+///   line: a header (a line that shares nothing stands out only if no data
+///   line does);
+/// * otherwise (too few lines, or other lines share nothing either): an
+///   error asking the user to say which.
+///
+/// Returns whether the line is a header. Cost: one pass over the entries.
+fn judge_first_line(
+    fields: &Fields<'_>,
+    entries: &[(u32, u32, f64)],
+    (m, n): (usize, usize),
+    line: usize,
+    words: &[String; 2],
+) -> Result<bool> {
+    let mut row_lines = vec![0u32; m];
+    let mut col_lines = vec![0u32; n];
+    for &(i, j, _) in entries {
+        row_lines[i as usize] = row_lines[i as usize].saturating_add(1);
+        col_lines[j as usize] = col_lines[j as usize].saturating_add(1);
+    }
+    if row_lines[0] > 1 || col_lines[0] > 1 {
+        return Ok(false);
+    }
+    let below = entries.len() - 1;
+    let lonely = entries[1..]
+        .iter()
+        .filter(|&&(i, j, _)| row_lines[i as usize] == 1 && col_lines[j as usize] == 1)
+        .count();
+    if below >= HEADER_MIN_LINES && lonely == 0 {
+        return Ok(true);
+    }
+    let why = if below < HEADER_MIN_LINES {
+        format!(
+            "the file has {below} line{} below it, too few to judge (at least {HEADER_MIN_LINES} needed)",
+            if below == 1 { "" } else { "s" }
+        )
+    } else {
+        format!(
+            "so do {lonely} other line{}, so a line that shares no label may well be data",
+            if lonely == 1 { "" } else { "s" }
+        )
+    };
+    Err(fields.error(
+        line,
+        None,
+        format!(
+            "cannot tell whether the first line (\"{}\", \"{}\") is a header or an interaction: \
+             neither label appears on another line, but {why}; say which with the edge header \
+             setting (--edge-header yes for a header, no for data)",
+            words[0], words[1]
+        ),
+    ))
+}
