@@ -30,10 +30,7 @@ fn bench(c: &mut Criterion) {
         let b = random_bits(size, size, fill, 42);
         group.throughput(Throughput::Elements((size * size) as u64));
         let id = format!("{size}x{size}_fill{fill}");
-        let plain = TemperatureOptions {
-            pack: false,
-            ..TemperatureOptions::default()
-        };
+        let plain = TemperatureOptions::default().with_pack(false);
         group.bench_with_input(BenchmarkId::new("given_sorted", &id), &b, |bch, b| {
             bch.iter(|| {
                 let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();

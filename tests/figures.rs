@@ -206,10 +206,11 @@ fn large_network_is_a_bounded_density_image() {
     let rows: Vec<String> = (0..m).map(|i| format!("r{i}")).collect();
     let cols: Vec<String> = (0..n).map(|j| format!("c{j}")).collect();
     let net = Network::from_triplets(rows, cols, trip).unwrap();
-    let opts = MeasureOptions {
-        families: vec![Family::Nodf],
-        ..MeasureOptions::default()
-    };
+    let opts = MeasureOptions::new(
+        nidus::Order::Sorted,
+        vec![Family::Nodf],
+        nidus::metrics::TemperatureOptions::default(),
+    );
     let meas = measure(&net, &opts).unwrap();
     let svg = matrix_figure(&net, &meas, &MatrixFigureOptions::default())
         .unwrap()

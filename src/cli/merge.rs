@@ -27,7 +27,7 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
         parts.extend(read_draws(p)?);
     }
     let runs = merge_runs(parts)?;
-    let mut text = header(args.format).unwrap_or_default();
+    let mut text = header(args.format)?.unwrap_or_default();
     for r in &runs {
         text += &render(args.format, &r.file, &r.run)?;
     }

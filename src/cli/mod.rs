@@ -10,12 +10,15 @@ use std::path::Path;
 
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
+mod effort;
 mod figure;
+mod flat;
 mod measure;
 mod merge;
 mod null;
 mod report;
 mod sample;
+mod species;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
@@ -45,6 +48,10 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
+    Species(species::SpeciesArgs),
+    /// Rarefy a visit-count network: is it sampled enough for its nestedness to mean anything?
+    Effort(effort::EffortArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -80,6 +87,8 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Species(args) => species::run(args),
+        Command::Effort(args) => effort::run(args),
     };
     match result {
         Ok(code) => code,

@@ -9,16 +9,17 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::figures::{null_figure, NullPanel};
+use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{run_null_with_progress, NullConfig, NullModel, NullOptions, NullRun, Shard};
-use nidus::significance::NullSummary;
+use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
-use serde_json::{Map, Value};
+use serde_json::Value;
 
 pub use super::emit;
+use super::flat::FlatTable;
 use super::{
-    csv_field, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List,
-    EXIT_INPUT,
+    input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
 };
 
 #[derive(Args, Debug)]
@@ -68,28 +69,58 @@ pub struct NullArgs {
     svg: Option<PathBuf>,
 }
 
-const CSV_COLUMNS: &[&str] = &[
-    "file",
-    "index",
-    "model",
-    "draws",
-    "seed",
-    "observed",
-    "mean",
-    "sd",
-    "z",
-    "p_greater",
-    "p_less",
-    "q025",
-    "q50",
-    "q975",
-    "more_nested",
-    "stopped_early",
-];
+/// One JSON line or CSV row of a null test: the run's identity, then the
+/// fields of [`NullSummary`] as serde writes them. `draws` is placed with
+/// the identity; the summary's own `draws` (the same number) fills that
+/// place when the line is turned into a JSON map (keys keep their first
+/// position), so it appears once.
+#[derive(serde::Serialize)]
+struct NullLine<'a> {
+    file: &'a str,
+    index: IndexKind,
+    model: NullModel,
+    draws: usize,
+    seed: u64,
+    #[serde(flatten)]
+    summary: &'a NullSummary,
+}
+
+fn line(
+    file: &str,
+    (model, seed): (NullModel, u64),
+    index: IndexKind,
+    summary: &NullSummary,
+) -> nidus::Result<Value> {
+    let line = NullLine {
+        file,
+        index,
+        model,
+        draws: summary.draws,
+        seed,
+        summary,
+    };
+    serde_json::to_value(line)
+        .map_err(|e| Error::InvalidArgument(format!("cannot write the result: {e}")))
+}
+
+/// The CSV columns: those of a line with every field present.
+fn csv_table() -> nidus::Result<FlatTable> {
+    let summary = summarize(1.0, &[0.0, 2.0], Direction::Greater, None)?;
+    Ok(FlatTable::new(line(
+        "",
+        (NullModel::Equiprobable, 0),
+        IndexKind::named("nodf")?,
+        &summary,
+    )?))
+}
 
 /// The CSV header line, for formats that have one.
-pub fn header(format: Format) -> Option<String> {
-    (format == Format::Csv).then(|| CSV_COLUMNS.join(",") + "\n")
+pub fn header(format: Format) -> nidus::Result<Option<String>> {
+    Ok(if format == Format::Csv {
+        Some(csv_table()?.header())
+    } else {
+        None
+    })
 }
 
 /// The output for one run (one file and one model, every index).
@@ -119,68 +150,22 @@ pub fn render(format: Format, file: &str, run: &NullRun) -> nidus::Result<String
             "draws"
         );
     }
+    let csv = if format == Format::Csv {
+        Some(csv_table()?)
+    } else {
+        None
+    };
     for (kind, sum) in run.indices.iter().zip(&summaries) {
-        match format {
-            Format::Json => s += &(json(file, run, *kind, sum).to_string() + "\n"),
-            Format::Csv => s += &csv(file, run, *kind, sum),
-            Format::Text => s += &text(*kind, sum),
+        match (format, &csv) {
+            (Format::Text, _) => s += &text(*kind, sum),
+            (Format::Csv, Some(t)) => s += &t.row(&line(file, (run.model, run.seed), *kind, sum)?),
+            _ => s += &(line(file, (run.model, run.seed), *kind, sum)?.to_string() + "\n"),
         }
     }
     if format == Format::Text {
         s.push('\n');
     }
     Ok(s)
-}
-
-fn json(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> Value {
-    let mut o = Map::new();
-    o.insert("file".into(), file.into());
-    o.insert("index".into(), kind.name().into());
-    o.insert("model".into(), run.model.name().into());
-    o.insert("draws".into(), x.draws.into());
-    o.insert("seed".into(), run.seed.into());
-    o.insert("observed".into(), x.observed.into());
-    o.insert("mean".into(), x.mean.into());
-    o.insert("sd".into(), x.sd.into());
-    o.insert("z".into(), x.z.map_or(Value::Null, Value::from));
-    o.insert("p_greater".into(), x.p_greater.into());
-    o.insert("p_less".into(), x.p_less.into());
-    o.insert("q025".into(), x.q025.into());
-    o.insert("q50".into(), x.q50.into());
-    o.insert("q975".into(), x.q975.into());
-    o.insert(
-        "more_nested".into(),
-        serde_json::to_value(x.more_nested).unwrap_or(Value::Null),
-    );
-    o.insert("stopped_early".into(), x.stopped_early.into());
-    Value::Object(o)
-}
-
-fn csv(file: &str, run: &NullRun, kind: IndexKind, x: &NullSummary) -> String {
-    let dir = serde_json::to_value(x.more_nested)
-        .ok()
-        .and_then(|v| v.as_str().map(str::to_string))
-        .unwrap_or_default();
-    [
-        csv_field(file),
-        kind.name().to_string(),
-        run.model.name().to_string(),
-        x.draws.to_string(),
-        run.seed.to_string(),
-        x.observed.to_string(),
-        x.mean.to_string(),
-        x.sd.to_string(),
-        x.z.map_or(String::new(), |z| z.to_string()),
-        x.p_greater.to_string(),
-        x.p_less.to_string(),
-        x.q025.to_string(),
-        x.q50.to_string(),
-        x.q975.to_string(),
-        dir,
-        x.stopped_early.to_string(),
-    ]
-    .join(",")
-        + "\n"
 }
 
 fn text(kind: IndexKind, x: &NullSummary) -> String {
@@ -228,28 +213,19 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 .into(),
         ));
     }
-    let binary_models: Vec<&str> = args
+    let configs: Vec<NullConfig> = args
         .model
         .0
         .iter()
-        .filter(|m| !m.is_weighted())
-        .map(|m| m.name())
-        .collect();
-    let weighted_indices: Vec<&str> = args
-        .index
-        .0
-        .iter()
-        .filter(|k| k.needs_weights())
-        .map(|k| k.name())
-        .collect();
-    if !binary_models.is_empty() && !weighted_indices.is_empty() {
-        return Err(Error::InvalidArgument(format!(
-            "{} read(s) weights, but {} draw(s) binary matrices: test weighted indices against \
-             shuffle-cells, shuffle-weights or fixed-totals in a separate call",
-            weighted_indices.join(", "),
-            binary_models.join(", ")
-        )));
-    }
+        .map(|&model| {
+            let mut config = NullConfig::new(model, args.index.0.clone(), args.draws, args.seed);
+            config.shard = args.shard;
+            config.stop_after = args.stop_after;
+            config.order = args.order;
+            config.options = NullOptions::new(args.burn_in);
+            config.check().map(|()| config)
+        })
+        .collect::<nidus::Result<_>>()?;
     if args.shard.is_some() && args.svg.is_some() {
         return Err(Error::InvalidArgument(
             "--svg needs every draw: draw the figure from the unsplit run (a shard holds only part of the draws)"
@@ -275,7 +251,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     let stdout = io::stdout();
     let mut out = stdout.lock();
     if args.shard.is_none() {
-        if let Some(h) = header(args.format) {
+        if let Some(h) = header(args.format)? {
             if !emit(&mut out, &h) {
                 return Ok(ExitCode::SUCCESS);
             }
@@ -293,21 +269,15 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 continue;
             }
         };
-        for &model in &args.model.0 {
-            let mut config = NullConfig::new(model, args.index.0.clone(), args.draws, args.seed);
-            config.shard = args.shard;
-            config.stop_after = args.stop_after;
-            config.order = args.order;
-            config.options = NullOptions {
-                burn_in: args.burn_in,
-            };
+        for config in &configs {
+            let model = config.model;
             let share = match args.shard {
                 Some(s) => (0..args.draws as u64).filter(|&k| s.contains(k)).count(),
                 None => args.draws,
             };
             let bar = progress_bar(share, &format!("{shown} {model}"));
             let result =
-                run_null_with_progress(&net, &config, &|done| bar.set_position(done as u64));
+                run_null_with_progress(&net, config, &|done| bar.set_position(done as u64));
             bar.finish_and_clear();
             let run = match result {
                 Ok(r) => r,
@@ -318,9 +288,12 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 }
             };
             if let Some((path, w)) = saved.as_mut() {
-                run.write_draws(&shown, w).map_err(|source| Error::Write {
-                    path: path.clone(),
-                    source,
+                run.write_draws(&shown, w).map_err(|e| match e {
+                    Error::Output { source } => Error::Write {
+                        path: path.clone(),
+                        source,
+                    },
+                    e => e,
                 })?;
             }
             if let (Some(s), Some((path, _))) = (args.shard, saved.as_ref()) {

@@ -39,13 +39,7 @@ pub struct SampleArgs {
 pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
     let read = args.input.read_options();
     let net = read_input(&args.file, &read)?.network;
-    let sampler = NullSampler::new(
-        &net,
-        args.model,
-        &NullOptions {
-            burn_in: args.burn_in,
-        },
-    )?;
+    let sampler = NullSampler::new(&net, args.model, &NullOptions::new(args.burn_in))?;
     std::fs::create_dir_all(&args.out).map_err(|source| Error::Write {
         path: args.out.clone(),
         source,
@@ -68,8 +62,10 @@ pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
             path: path.clone(),
             source,
         })?;
-        write_matrix(&drawn, BufWriter::new(file), b',')
-            .map_err(|source| Error::Write { path, source })?;
+        write_matrix(&drawn, BufWriter::new(file), b',').map_err(|e| match e {
+            Error::Output { source } => Error::Write { path, source },
+            e => e,
+        })?;
     }
     Ok(ExitCode::SUCCESS)
 }

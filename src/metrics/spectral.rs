@@ -52,7 +52,6 @@
 use std::borrow::Cow;
 
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::error::Result;
 use crate::metrics::registry::IndexOptions;
@@ -60,7 +59,8 @@ use crate::storage::{BitMatrix, Layout, NetView};
 use crate::storage::{Csr, Weight};
 
 /// The spectral radius of a network's weighted and binary views.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpectralRadius {
     /// Largest singular value of the weight matrix `W`.
     pub weighted: f64,

@@ -46,7 +46,8 @@ const MAGIC: &str = "# nidus null draws";
 const VERSION: &str = "1";
 
 /// A run read from a saved-draws file, with the label of its network file.
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SavedRun {
     /// The network file the run tested, as given on the command line.
     pub file: String,
@@ -62,13 +63,20 @@ impl NullRun {
     /// Writes this run as one section of a saved-draws file (format in
     /// [`crate::null::draws_file`]). `file` is the network file's label; it
     /// must not contain a tab or a line break.
-    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> std::io::Result<()> {
+    ///
+    /// Errors: [`Error::InvalidArgument`] for such a name, [`Error::Output`]
+    /// when the writer fails.
+    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> Result<()> {
         if file.contains(['\t', '\n', '\r']) {
-            return Err(std::io::Error::new(
-                std::io::ErrorKind::InvalidInput,
-                format!("the file name {file:?} holds a tab or line break; it cannot be saved"),
-            ));
+            return Err(Error::InvalidArgument(format!(
+                "the file name {file:?} holds a tab or line break; it cannot be saved"
+            )));
         }
+        self.write_sections(file, out)
+            .map_err(|source| Error::Output { source })
+    }
+
+    fn write_sections<W: Write>(&self, file: &str, out: &mut W) -> std::io::Result<()> {
         let names: Vec<&str> = self.indices.iter().map(|k| k.name()).collect();
         let mut s = String::new();
         s.push_str(&format!("{MAGIC}\t{VERSION}\n"));

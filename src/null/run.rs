@@ -8,7 +8,6 @@ use std::str::FromStr;
 
 use rand::distr::Distribution;
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::error::{Error, Result};
 use crate::index::{IndexKind, IndexOptions};
@@ -20,7 +19,7 @@ use crate::storage::{NetView, Network, Weight};
 /// Draws evaluated together between progress reports and stop checks. A
 /// constant (not a function of the thread count) so that a sequential stop
 /// ends after the same draws on any machine.
-pub const BATCH: usize = 64;
+pub(crate) const BATCH: usize = 64;
 
 /// One part of a run split for a cluster: shard `index` of `count`
 /// (1-based) takes the draws `k` (0-based) with `k % count == index - 1`.
@@ -71,7 +70,8 @@ impl FromStr for Shard {
     }
 }
 
-impl Serialize for Shard {
+#[cfg(feature = "serde")]
+impl serde::Serialize for Shard {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         s.collect_str(self)
     }
@@ -136,7 +136,10 @@ impl RunOptions {
 }
 
 /// What to run: one model, the indices to test, how many draws and how.
+/// Build it with [`NullConfig::new`] and set fields (new settings may be
+/// added).
 #[derive(Clone, Debug)]
+#[non_exhaustive]
 pub struct NullConfig {
     /// The null model.
     pub model: NullModel,
@@ -188,30 +191,31 @@ impl NullConfig {
         }
     }
 
-    fn check(&self) -> Result<()> {
+    /// Checks the settings without running anything (the runner checks them
+    /// too): at least one index and two draws, a sequential stop `H >= 2`
+    /// and not with a shard, at least one thread, and no index that reads
+    /// weights under a model that draws binary matrices.
+    pub fn check(&self) -> Result<()> {
         if self.indices.is_empty() {
             return Err(Error::InvalidArgument("no index to test".into()));
         }
         self.run_options().check()?;
         if !self.model.is_weighted() {
             if let Some(k) = self.indices.iter().find(|k| k.needs_weights()) {
-                return Err(Error::InvalidArgument(format!(
-                    "{k} reads weights but {} draws binary matrices; test it against shuffle-cells, shuffle-weights or fixed-totals",
-                    self.model
-                )));
+                return Err(Error::WeightsUnderBinaryModel {
+                    index: k.name(),
+                    model: self.model.name(),
+                });
             }
         }
         Ok(())
     }
 }
 
-fn ser_order<S: serde::Serializer>(o: &Order, s: S) -> std::result::Result<S::Ok, S::Error> {
-    s.serialize_str(o.name())
-}
-
 /// The draws of a run (or of one shard of it) and everything needed to
 /// summarise or merge them.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct NullRun {
     /// The model.
     pub model: NullModel,
@@ -230,7 +234,6 @@ pub struct NullRun {
     /// Curveball trades per draw (`fixed-both` only).
     pub burn_in: Option<usize>,
     /// Order used by order-dependent indices.
-    #[serde(serialize_with = "ser_order")]
     pub order: Order,
     /// Rows, columns and links of the observed network.
     pub shape: (usize, usize, usize),
@@ -284,10 +287,11 @@ impl NullRun {
 }
 
 fn incomplete(have: usize, draws: usize, shard: Option<Shard>) -> Error {
-    Error::InvalidArgument(format!(
-        "these are {have} of the {draws} draws (shard {}); merge every shard before summarising",
-        shard.map_or("-".to_string(), |s| s.to_string())
-    ))
+    Error::IncompleteRun {
+        held: have,
+        draws,
+        shard: shard.map(|s| (s.index(), s.count())),
+    }
 }
 
 /// True when draws `0..R` are all there (or, with a sequential stop, draws
@@ -322,7 +326,8 @@ fn complete(
 
 /// The draws of a test of any statistics against any sampler (see
 /// [`run_test`]), in draw order.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct TestRun {
     /// The statistics' names, in the order of the values of each draw.
     pub names: Vec<String>,
@@ -331,7 +336,7 @@ pub struct TestRun {
     /// Observed value of each statistic.
     pub observed: Vec<f64>,
     /// The options the run was made with.
-    #[serde(skip)]
+    #[cfg_attr(feature = "serde", serde(skip))]
     pub options: RunOptions,
     /// Indices `k` of the draws computed, ascending.
     pub draw_ids: Vec<u64>,
@@ -418,7 +423,7 @@ where
 ///
 /// Every statistic is evaluated on `observed` and on every draw. Draw `k`
 /// is `sampler.sample(&mut `[`draw_rng`]`(seed, k))`; draws are computed in
-/// parallel in batches of [`BATCH`] in draw order and stored in draw order,
+/// parallel in batches of 64 draws in draw order and stored in draw order,
 /// so the values (and the summaries) are identical for any thread count,
 /// and the draws of shards `1/K..K/K` together are exactly the draws of the
 /// unsplit run. With a sequential stop the run ends after the first batch
@@ -538,7 +543,7 @@ pub fn run_null<T: Weight>(net: &Network<T>, config: &NullConfig) -> Result<Null
 ///
 /// Draw `k` is made with [`crate::null::draw_rng`]`(seed, k)` and every
 /// index is evaluated on it; draws are computed in parallel in batches of
-/// [`BATCH`] in draw order and stored in draw order, so the values (and the
+/// 64 draws in draw order and stored in draw order, so the values (and the
 /// summaries) are identical for any thread count, and the draws of shards
 /// `1/K..K/K` together are exactly the draws of the unsplit run. With a
 /// sequential stop the run ends after the first batch by which every index
