@@ -42,7 +42,7 @@
 //!
 //! The index is then the sum of the quotients in member order (unchanged
 //! quotients are reused, changed ones divided again), exactly as
-//! [`crate::metrics::nodf`] adds them, so the value is the full
+//! [`crate::metrics::nodf()`] adds them, so the value is the full
 //! recomputation's to the last bit (tests: `tests/species.rs`). A column
 //! species is handled the same way on the transposed matrix.
 
@@ -391,7 +391,7 @@ impl NodfEngine {
         );
     }
 
-    /// NODF (sorted order, as [`crate::metrics::nodf`] computes it) of
+    /// NODF (sorted order, as [`crate::metrics::nodf()`] computes it) of
     /// the observed matrix with the focused species' cells replaced by
     /// `cells` (bit-packed like [`cells`](Self::cells); padding bits zero).
     ///
