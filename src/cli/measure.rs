@@ -9,6 +9,7 @@ use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
 use nidus::{Error, Order};
 
+use super::figure::{figure_paths, MatrixFigureArgs};
 use super::report::Table;
 use super::{
     emit, input_name, parse_list, read_input, report_failure, Format, LayoutArgs, List, EXIT_INPUT,
@@ -38,6 +39,8 @@ pub struct MeasureArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    #[command(flatten)]
+    figure: MatrixFigureArgs,
 }
 
 /// The most random starts of the temperature packing search accepted.
@@ -72,6 +75,13 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             .with_restarts(args.restarts),
     );
     let table = Table::new(args.format, &opts)?;
+    let svg_paths = match &args.figure.svg {
+        Some(base) => {
+            args.figure.options(base)?; // bad --svg-names fail before any file is read
+            Some(figure_paths(base, &args.files)?)
+        }
+        None => None,
+    };
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
@@ -80,11 +90,16 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             return Ok(ExitCode::SUCCESS);
         }
     }
-    for file in &args.files {
+    for (k, file) in args.files.iter().enumerate() {
         let shown = input_name(file);
         let result = read_input(file, &read).and_then(|read| {
             let net = read.network;
             let m = measure(&net, &opts)?;
+            if let Some(paths) = &svg_paths {
+                let fig = nidus::figures::matrix_figure(&net, &m, &args.figure.options(file)?)?;
+                fig.save(&paths[k])?;
+                eprintln!("nidus: figure written to {}", paths[k].display());
+            }
             Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels())))
         });
         match result {
