@@ -3,7 +3,9 @@
 //! before timing; each iteration computes the value from the in-memory
 //! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
-//! (throughput: draws per second); `temperature_packing/200` one packed
+//! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
+//! same with the pre-word-level trade kept in `support/curveball_lists.rs`
+//! (side-by-side comparison); `temperature_packing/200` one packed
 //! temperature with the default starts.
 //!
 //! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
@@ -13,12 +15,16 @@
 #[path = "support/inputs.rs"]
 mod inputs;
 
+#[path = "support/curveball_lists.rs"]
+#[allow(missing_docs)]
+mod curveball_lists;
+
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use ndarray::Array2;
 use nidus::metrics::{nodf, spectral_radius, temperature, wnodf, Order, TemperatureOptions};
-use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
+use nidus::null::{draw_rng, BurnIn, Distribution, NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -112,6 +118,24 @@ fn null_and_packing(c: &mut Criterion) {
             let NullDraw::Binary(d) = sampler.draw(11, k) else {
                 unreachable!("binary model")
             };
+            nodf(&d, Order::Sorted).unwrap().total
+        })
+    });
+    g.finish();
+
+    // The old list-based trade, same burn-in, same draw keys.
+    let lists = BurnIn::new(
+        curveball_lists::ListCurveball::new(&net.binary().unwrap()),
+        sampler.burn_in().unwrap(),
+    );
+    let mut g = c.benchmark_group("null_fixed_both_nodf_lists");
+    g.sample_size(20).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    g.throughput(Throughput::Elements(1));
+    g.bench_function(BenchmarkId::from_parameter(200), |b| {
+        b.iter(|| {
+            k += 1;
+            let d = lists.sample(&mut draw_rng(11, k));
             nodf(&d, Order::Sorted).unwrap().total
         })
     });
