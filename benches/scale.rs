@@ -2,6 +2,8 @@
 //! spectral radius of sparse ones. Inputs are seeded random networks built
 //! before timing; each iteration computes the value from the in-memory
 //! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
+//! `wnodf_dense_given/4000`: WNODF in the given order of a dense 4,000 x
+//! 4,000 network at fill 0.2 with weights 1-20.
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
 //! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
 //! same with the pre-word-level trade kept in `support/curveball_lists.rs`
@@ -33,6 +35,20 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 fn dense(m: usize, fill: f64, seed: u64) -> Network<u8> {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
     let w = Array2::from_shape_fn((m, m), |_| (rng.random::<f64>() < fill) as u8);
+    Network::from_array(w).expect("a random dense network has links")
+}
+
+/// A dense `m x m` network with each cell present with probability `fill`
+/// and weights uniform in `1..=max_weight`.
+fn dense_weighted(m: usize, fill: f64, max_weight: u32, seed: u64) -> Network<u32> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let w = Array2::from_shape_fn((m, m), |_| {
+        if rng.random::<f64>() < fill {
+            rng.random_range(1..=max_weight)
+        } else {
+            0
+        }
+    });
     Network::from_array(w).expect("a random dense network has links")
 }
 
@@ -89,6 +105,15 @@ fn sparse_kernels(c: &mut Criterion) {
     g.throughput(Throughput::Elements(net.links() as u64));
     g.bench_with_input(BenchmarkId::from_parameter(100_000), &net, |b, net| {
         b.iter(|| wnodf(net, Order::Sorted).unwrap().total)
+    });
+    g.finish();
+    let mut g = c.benchmark_group("wnodf_dense_given");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(8));
+    let net = dense_weighted(4000, 0.2, 20, 4);
+    g.throughput(Throughput::Elements(16_000_000));
+    g.bench_with_input(BenchmarkId::from_parameter(4000), &net, |b, net| {
+        b.iter(|| wnodf(net, Order::Given).unwrap().total)
     });
     g.finish();
     let mut g = c.benchmark_group("spectral_sparse");
