@@ -103,6 +103,23 @@ impl CurveballChain {
     /// One trade. A matrix with fewer than two rows has a single state and
     /// does not change.
     pub fn step<R: Rng + ?Sized>(&mut self, rng: &mut R) {
+        match self.deposit {
+            Deposit::Portable => self.trade::<R, false>(rng),
+            #[cfg(target_arch = "x86_64")]
+            // SAFETY: `Bmi2` is chosen only when the CPU reports BMI2.
+            Deposit::Bmi2 => unsafe { self.trade_bmi2(rng) },
+        }
+    }
+
+    /// The trade compiled with BMI2 (`pdep` inline, shifts without flags).
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "bmi2")]
+    unsafe fn trade_bmi2<R: Rng + ?Sized>(&mut self, rng: &mut R) {
+        self.trade::<R, true>(rng)
+    }
+
+    #[inline(always)]
+    fn trade<R: Rng + ?Sized, const BMI2: bool>(&mut self, rng: &mut R) {
         let m = self.bits.nrows();
         if m < 2 {
             return;
@@ -144,7 +161,7 @@ impl CurveballChain {
                 if d == 0 {
                     continue;
                 }
-                let sel = self.deposit.apply(pick as u64, d);
+                let sel = deposit::<BMI2>(pick as u64, d);
                 pick >>= d.count_ones();
                 let give_a = (sel ^ flip) & d;
                 *x = (*x & !d) | give_a;
@@ -170,7 +187,7 @@ impl CurveballChain {
             let c = d.count_ones() as usize;
             let window = take_bits(pick, offset, c);
             offset += c;
-            let sel = self.deposit.apply(window, d);
+            let sel = deposit::<BMI2>(window, d);
             let give_a = (sel ^ flip) & d;
             *x = (*x & !d) | give_a;
             *y = (*y & !d) | (d & !give_a);
@@ -219,16 +236,16 @@ impl Halves {
     }
 }
 
-impl Deposit {
-    #[inline]
-    fn apply(self, src: u64, mask: u64) -> u64 {
-        match self {
-            Deposit::Portable => deposit_portable(src, mask),
-            #[cfg(target_arch = "x86_64")]
-            // SAFETY: `Bmi2` is chosen only when the CPU reports BMI2.
-            Deposit::Bmi2 => unsafe { deposit_bmi2(src, mask) },
-        }
+/// `pdep(src, mask)`: the instruction when `BMI2` (only inside a function
+/// compiled for BMI2), else the portable loop.
+#[inline(always)]
+fn deposit<const BMI2: bool>(src: u64, mask: u64) -> u64 {
+    #[cfg(target_arch = "x86_64")]
+    if BMI2 {
+        // SAFETY: `BMI2` is true only in code run after BMI2 was detected.
+        return unsafe { std::arch::x86_64::_pdep_u64(src, mask) };
     }
+    deposit_portable(src, mask)
 }
 
 /// Bits `offset..offset + c` of the bit string `words` (`c <= 64`; `words`
@@ -261,7 +278,7 @@ fn deposit_portable(mut src: u64, mut mask: u64) -> u64 {
     out
 }
 
-#[cfg(target_arch = "x86_64")]
+#[cfg(all(test, target_arch = "x86_64"))]
 #[target_feature(enable = "bmi2")]
 unsafe fn deposit_bmi2(src: u64, mask: u64) -> u64 {
     std::arch::x86_64::_pdep_u64(src, mask)
