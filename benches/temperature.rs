@@ -36,10 +36,7 @@ fn bench(c: &mut Criterion) {
         let b = random_bits(size, size, fill, 42);
         group.throughput(Throughput::Elements((size * size) as u64));
         let id = format!("{size}x{size}_fill{fill}");
-        let plain = TemperatureOptions {
-            pack: false,
-            ..TemperatureOptions::default()
-        };
+        let plain = TemperatureOptions::default().with_pack(false);
         group.bench_with_input(BenchmarkId::new("given_sorted", &id), &b, |bch, b| {
             bch.iter(|| {
                 let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
@@ -64,10 +61,7 @@ fn bench(c: &mut Criterion) {
     if std::env::var_os("NIDUS_BENCH_LARGE").is_some() {
         sides.push(1000);
     }
-    let one = TemperatureOptions {
-        restarts: 0,
-        ..TemperatureOptions::default()
-    };
+    let one = TemperatureOptions::default().with_restarts(0);
     for size in sides {
         let b = random_bits(size, size, 0.1, 43);
         let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();

@@ -30,10 +30,7 @@ fn main() {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(42);
     let b = BitMatrix::from_fn(size, size, |_, _| rng.random_bool(fill));
 
-    let plain = TemperatureOptions {
-        pack: false,
-        ..TemperatureOptions::default()
-    };
+    let plain = TemperatureOptions::default().with_pack(false);
     let t0 = Instant::now();
     let t = temperature(&b, &plain).unwrap();
     let dt_plain = t0.elapsed();
@@ -57,11 +54,7 @@ fn main() {
     let Some(restarts) = restarts else {
         return;
     };
-    let opts = TemperatureOptions {
-        pack: true,
-        restarts,
-        seed: 1,
-    };
+    let opts = TemperatureOptions::default().with_restarts(restarts);
     let t0 = Instant::now();
     let t = temperature(&b, &opts).unwrap();
     println!(

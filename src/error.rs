@@ -109,6 +109,42 @@ pub enum Error {
         /// Last relative change.
         change: f64,
     },
+    /// Output could not be written to a writer the caller gave (a file's
+    /// name is not known here: the caller adds it).
+    #[error("cannot write the output: {source}")]
+    Output {
+        /// What the writer reported.
+        source: std::io::Error,
+    },
+    /// A name that is none of the choices (index, family, null model).
+    #[error("unknown {what} '{name}': expected one of {}", expected.join(", "))]
+    UnknownName {
+        /// What was being named.
+        what: &'static str,
+        /// The name given.
+        name: String,
+        /// Every valid name.
+        expected: Vec<&'static str>,
+    },
+    /// An index that reads weights, tested under a model that draws binary
+    /// matrices.
+    #[error("{index} reads weights but {model} draws binary matrices; test it against shuffle-cells, shuffle-weights or fixed-totals")]
+    WeightsUnderBinaryModel {
+        /// The index.
+        index: &'static str,
+        /// The null model.
+        model: &'static str,
+    },
+    /// Summaries asked of part of a null run (a shard, or missing draws).
+    #[error("these are {held} of the {draws} draws (shard {}); merge every shard before summarising", shard.map_or("-".to_string(), |(i, k)| format!("{i}/{k}")))]
+    IncompleteRun {
+        /// Draws held.
+        held: usize,
+        /// Draws requested.
+        draws: usize,
+        /// The shard `(I, K)` the draws belong to, if split.
+        shard: Option<(usize, usize)>,
+    },
     /// A bad option value or combination.
     #[error("{0}")]
     InvalidArgument(String),
@@ -120,13 +156,14 @@ pub(crate) fn find_by_name<T: Copy>(
     s: &str,
     all: &[T],
     name: impl Fn(T) -> &'static str,
-    what: &str,
+    what: &'static str,
 ) -> Result<T> {
-    all.iter().copied().find(|&x| name(x) == s).ok_or_else(|| {
-        let names: Vec<&str> = all.iter().map(|&x| name(x)).collect();
-        Error::InvalidArgument(format!(
-            "unknown {what} '{s}': expected one of {}",
-            names.join(", ")
-        ))
-    })
+    all.iter()
+        .copied()
+        .find(|&x| name(x) == s)
+        .ok_or_else(|| Error::UnknownName {
+            what,
+            name: s.to_string(),
+            expected: all.iter().map(|&x| name(x)).collect(),
+        })
 }

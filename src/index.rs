@@ -100,6 +100,7 @@ impl FromStr for IndexKind {
     }
 }
 
+#[cfg(feature = "serde")]
 impl serde::Serialize for IndexKind {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         s.serialize_str(self.name())

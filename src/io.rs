@@ -66,8 +66,9 @@ pub use report::{HeaderRule, ReadNote, ReadOutcome, ReadReport, HEADER_MIN_LINES
 use table::{Table, TableCells};
 
 /// File layout.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Layout {
     /// A header row of column labels, then one labelled row of values per
     /// row species.
@@ -107,7 +108,8 @@ impl FromStr for Layout {
 }
 
 /// How the first non-blank line of an edge list is treated.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum EdgeHeader {
     /// Skipped when it has a weight field that is not a number (for example
     /// `plant,visitor,visits`), or when it holds two labels that appear on no
@@ -115,13 +117,13 @@ pub enum EdgeHeader {
     /// [`HeaderRule::LabelsAppearOnce`]); an error when that cannot be
     /// judged; otherwise read as data. Each skip is reported.
     #[default]
-    #[serde(rename = "auto")]
+    #[cfg_attr(feature = "serde", serde(rename = "auto"))]
     Auto,
     /// Always skipped.
-    #[serde(rename = "yes")]
+    #[cfg_attr(feature = "serde", serde(rename = "yes"))]
     Present,
     /// Never skipped: the first line is data.
-    #[serde(rename = "no")]
+    #[cfg_attr(feature = "serde", serde(rename = "no"))]
     Absent,
 }
 
@@ -157,8 +159,9 @@ impl FromStr for EdgeHeader {
 }
 
 /// Which labels a matrix-layout file carries.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Labels {
     /// [`Labels::None`] when the first line and the first field of every
     /// line are all numbers (no cell can be a label, not even the corner
@@ -829,20 +832,24 @@ fn value_message(s: &str, why: BadValue, empty_is: &str) -> String {
 /// write_matrix(&net, &mut out, b',').unwrap();
 /// assert_eq!(String::from_utf8(out).unwrap(), ",C1,C2\nR1,2.5,0\nR2,1,1e-7\n");
 /// ```
-pub fn write_matrix<W: Write, T: Weight>(
+///
+/// Errors: [`Error::InvalidArgument`] for another delimiter,
+/// [`Error::Output`] when the writer fails.
+pub fn write_matrix<W: Write, T: Weight>(net: &Network<T>, out: W, delimiter: u8) -> Result<()> {
+    if !matches!(delimiter, b',' | b'\t' | b';') {
+        return Err(Error::InvalidArgument(format!(
+            "the delimiter {:?} is not one nidus reads; use ',', '\\t' or ';'",
+            delimiter as char
+        )));
+    }
+    write_cells(net, out, delimiter).map_err(|source| Error::Output { source })
+}
+
+fn write_cells<W: Write, T: Weight>(
     net: &Network<T>,
     out: W,
     delimiter: u8,
 ) -> std::io::Result<()> {
-    if !matches!(delimiter, b',' | b'\t' | b';') {
-        return Err(std::io::Error::new(
-            std::io::ErrorKind::InvalidInput,
-            format!(
-                "the delimiter {:?} is not one nidus reads; use ',', '\\t' or ';'",
-                delimiter as char
-            ),
-        ));
-    }
     let mut out = std::io::BufWriter::new(out);
     let d = [delimiter];
     for label in net.col_labels() {

@@ -30,12 +30,26 @@ pub mod analyses;
 pub mod error;
 pub mod index;
 pub mod io;
+/// Bit-packing and popcount kernels with their CPU dispatch: internal,
+/// public only so that the tests can compare every path.
+#[doc(hidden)]
 pub mod kernels;
 pub mod measure;
 pub mod metrics;
 pub mod null;
 pub mod numerics;
 pub mod significance;
+pub mod tolerance;
+
+/// The `ndarray` this crate is built with: use `nidus::ndarray` to build
+/// arrays whose type matches the library's signatures.
+pub use ndarray;
+/// The `rand` this crate is built with (samplers take `R: rand::Rng`).
+pub use rand;
+/// The `rand_xoshiro` this crate is built with: the generator type of
+/// [`null::draw_rng`].
+pub use rand_xoshiro;
+
 pub mod storage;
 
 /// The former paths of the storage types (`nidus::network`,

@@ -74,8 +74,10 @@ impl FromStr for Family {
     }
 }
 
-/// What to compute.
+/// What to compute. Build it with [`MeasureOptions::new`] or `Default` and
+/// set fields (new settings may be added).
 #[derive(Clone, Debug)]
+#[non_exhaustive]
 pub struct MeasureOptions {
     /// Order for NODF and WNODF.
     pub order: Order,
@@ -96,6 +98,15 @@ impl Default for MeasureOptions {
 }
 
 impl MeasureOptions {
+    /// Options computing `families` with this order and temperature packing.
+    pub fn new(order: Order, families: Vec<Family>, temperature: TemperatureOptions) -> Self {
+        MeasureOptions {
+            order,
+            families,
+            temperature,
+        }
+    }
+
     /// True when `f` is to be computed.
     pub fn wants(&self, f: Family) -> bool {
         self.families.contains(&f)
@@ -105,7 +116,8 @@ impl MeasureOptions {
 /// The description of a network and the indices asked for. An index not
 /// asked for is `None`; so is WNODF of a binary network (it would be 0 by
 /// definition, which says nothing).
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Measurement {
     /// Number of rows.
     pub rows: usize,
@@ -133,7 +145,10 @@ pub struct Measurement {
     pub discrepancy: Option<Discrepancy>,
     /// Every registry index outside the five families above, by name (empty
     /// for the indices nidus has today).
-    #[serde(skip_serializing_if = "std::collections::BTreeMap::is_empty")]
+    #[cfg_attr(
+        feature = "serde",
+        serde(skip_serializing_if = "std::collections::BTreeMap::is_empty")
+    )]
     pub more: std::collections::BTreeMap<&'static str, f64>,
 }
 
@@ -161,12 +176,7 @@ pub fn measure<T: Weight>(net: &Network<T>, opts: &MeasureOptions) -> Result<Mea
         None
     };
     let temperature = if opts.wants(Family::Temperature) {
-        Some(metrics::temperature(net, &opts.temperature).map_err(|e| match e {
-            Error::TooLarge { .. } => Error::InvalidArgument(format!(
-                "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
-            )),
-            e => e,
-        })?)
+        Some(metrics::temperature(net, &opts.temperature)?)
     } else {
         None
     };

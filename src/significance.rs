@@ -19,13 +19,12 @@
 //! limit is not reached all `R` draws are used and the p-values are the
 //! usual ones.
 
-use serde::Serialize;
-
 use crate::error::{Error, Result};
 use crate::index::Direction;
 
 /// The comparison of an observed index value with its null distribution.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct NullSummary {
     /// The observed value `s`.
     pub observed: f64,

@@ -251,6 +251,92 @@ fn malformed_fixtures_exit_2_naming_the_place() {
     assert!(seen >= 20, "only {seen} fixtures");
 }
 
+/// The JSON path of a scalar joined with `_`, and its value, for every
+/// scalar of a record (arrays left out).
+fn flatten(prefix: &str, v: &Value, out: &mut Vec<(String, Value)>) {
+    match v {
+        Value::Object(m) => {
+            for (k, x) in m {
+                let p = if prefix.is_empty() {
+                    k.clone()
+                } else {
+                    format!("{prefix}_{k}")
+                };
+                flatten(&p, x, out);
+            }
+        }
+        Value::Array(_) => {}
+        _ => out.push((prefix.to_string(), v.clone())),
+    }
+}
+
+/// JSON and CSV carry the same names and values: every CSV column is a JSON
+/// path joined with `_`, in the same order, holding the same number (a
+/// part that is `null` in JSON, such as WNODF of a binary network, is an
+/// empty cell under each of its columns). The "same names" check.
+#[test]
+fn csv_columns_are_json_paths() {
+    let files = [
+        "data-demo/islands_presence.csv",
+        "data-demo/meadow_visits.csv",
+    ];
+    for extra in [
+        &[][..],
+        &["--no-packing"][..],
+        &["--indices", "discrepancy,nodf"][..],
+    ] {
+        let args = ["measure", files[0], files[1], "--format"];
+        let run = |format: &str| {
+            let mut a = args.to_vec();
+            a.push(format);
+            a.extend_from_slice(extra);
+            let o = nidus(&a);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            String::from_utf8(o.stdout).unwrap()
+        };
+        let (json, csv) = (run("json"), run("csv"));
+        let mut lines = csv.lines();
+        let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+        assert!(header.contains(&"nodf_total"), "{header:?}");
+        for (record, row) in json.lines().zip(lines) {
+            let v: Value = serde_json::from_str(record).unwrap();
+            let mut flat = Vec::new();
+            flatten("", &v, &mut flat);
+            let cells: Vec<&str> = row.split(',').collect();
+            assert_eq!(cells.len(), header.len());
+            let mut k = 0;
+            for (path, value) in &flat {
+                if value.is_null() && !header.contains(&path.as_str()) {
+                    // A null object: its columns are all empty.
+                    while k < header.len() && header[k].starts_with(&format!("{path}_")) {
+                        assert_eq!(cells[k], "", "{path}");
+                        k += 1;
+                    }
+                    continue;
+                }
+                assert_eq!(header[k], path, "column {k}");
+                match value {
+                    Value::Number(n) => {
+                        // serde_json reads decimals to within an ulp (it
+                        // does not round-trip exactly without its
+                        // float_roundtrip feature); the CSV text is exact.
+                        let (c, j) = (cells[k].parse::<f64>().unwrap(), n.as_f64().unwrap());
+                        assert!(
+                            (c - j).abs() <= 2.0 * f64::EPSILON * c.abs(),
+                            "{path}: {c} vs {j}"
+                        )
+                    }
+                    Value::String(s) => assert_eq!(cells[k], s, "{path}"),
+                    Value::Bool(b) => assert_eq!(cells[k], b.to_string(), "{path}"),
+                    _ => assert_eq!(cells[k], "", "{path}"),
+                }
+                k += 1;
+            }
+            assert_eq!(k, header.len());
+        }
+    }
+}
+
 /// Discrepancy in both orientations, stable and tie-minimised, in JSON and
 /// CSV, and every variant as a null-model index. The matrix
 /// `[[1,0,1],[0,1,0]]` is worked by hand from METHODS.md §5: its three

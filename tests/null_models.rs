@@ -154,11 +154,11 @@ fn sorted_values(v: impl Iterator<Item = f64>) -> Vec<f64> {
 fn binary_samplers_keep_their_constraints() {
     for (t, (w, net)) in networks(1, 300, 12, 4).into_iter().enumerate() {
         let b = bits_of(&w);
-        let (rows, cols, links) = (b.row_degrees(), b.col_degrees(), b.count_ones());
+        let (rows, cols, links) = (b.row_degrees(), b.col_degrees(), b.links());
         let mut rng = draw_rng(100, t as u64);
         let e = Equiprobable::new(&net).unwrap().sample(&mut rng);
         assert_eq!(
-            (e.nrows(), e.ncols(), e.count_ones()),
+            (e.nrows(), e.ncols(), e.links()),
             (b.nrows(), b.ncols(), links)
         );
         let r = FixedRows::new(&net).unwrap().sample(&mut rng);

@@ -359,6 +359,7 @@ fn sample_writes_null_networks() {
     let mut files: Vec<_> = std::fs::read_dir(&dir)
         .unwrap()
         .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "csv"))
         .collect();
     files.sort();
     assert_eq!(files.len(), 12);

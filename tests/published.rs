@@ -292,10 +292,7 @@ fn temperature_random_mean_is_one_twentyfourth() {
     }
     let m = BitMatrix::from_fn(n, n, |i, j| cells[i * n + j]);
     let c = BitMatrix::from_fn(n, n, |i, j| !cells[i * n + j]);
-    let opts = TemperatureOptions {
-        pack: false,
-        ..Default::default()
-    };
+    let opts = TemperatureOptions::default().with_pack(false);
     let sum = temperature(&m, &opts).unwrap().given + temperature(&c, &opts).unwrap().given;
     let want = 100.0 * mean_weight(n) / U_MAX;
     assert!((sum - want).abs() < 1e-9 * want, "{sum} vs {want}");
@@ -337,10 +334,7 @@ fn temperature_large_random_matrices_score_about_100_5() {
         tol < 0.5,
         "tolerance {tol} too loose to say 100.5 rather than 100"
     );
-    let opts = TemperatureOptions {
-        pack: false,
-        ..Default::default()
-    };
+    let opts = TemperatureOptions::default().with_pack(false);
     let order: Vec<usize> = (0..n).collect();
     let mut mean = 0.0;
     for r in 0..reps {

@@ -7,7 +7,7 @@ use std::process::ExitCode;
 use clap::Args;
 use nidus::measure::{measure, Family, MeasureOptions};
 use nidus::metrics::TemperatureOptions;
-use nidus::Order;
+use nidus::{Error, Order};
 
 use super::report::Table;
 use super::{
@@ -40,19 +40,38 @@ pub struct MeasureArgs {
     format: Format,
 }
 
+/// The most random starts of the temperature packing search accepted.
+pub const MAX_RESTARTS: usize = 10_000;
+
+/// The command line's advice on a library error: a network too large for
+/// a dense table (which only temperature needs) names the option that
+/// leaves temperature out.
+fn advise(e: Error, temperature: bool) -> Error {
+    match e {
+        Error::TooLarge { .. } if temperature => Error::InvalidArgument(format!(
+            "{e}; leave temperature out with --indices (for example --indices nodf,wnodf,spectral,discrepancy)"
+        )),
+        e => e,
+    }
+}
+
 pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
+    if args.restarts > MAX_RESTARTS {
+        return Err(nidus::Error::InvalidArgument(format!(
+            "--restarts {}: at most {MAX_RESTARTS} random starts (each is a full packing search)",
+            args.restarts
+        )));
+    }
     let read = args.input.read_options();
     super::check_stdin_once(&args.files)?;
-    let opts = MeasureOptions {
-        order: args.order,
-        families: args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
-        temperature: TemperatureOptions {
-            pack: !args.no_packing,
-            restarts: args.restarts,
-            ..TemperatureOptions::default()
-        },
-    };
-    let table = Table::new(args.format, &opts);
+    let opts = MeasureOptions::new(
+        args.order,
+        args.indices.map_or_else(|| Family::ALL.to_vec(), |l| l.0),
+        TemperatureOptions::default()
+            .with_pack(!args.no_packing)
+            .with_restarts(args.restarts),
+    );
+    let table = Table::new(args.format, &opts)?;
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
@@ -76,7 +95,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             }
             Err(e) => {
                 failed += 1;
-                report_failure(&shown, &e);
+                report_failure(&shown, &advise(e, opts.wants(Family::Temperature)));
             }
         }
     }

@@ -1,19 +1,23 @@
 //! `nidus merge`: joins saved draws of shards and prints what the unsplit
-//! run prints.
+//! run prints. Files of `nidus null --save-draws` and of `nidus assess
+//! --save-draws` are told apart by their first line.
 
 use std::io;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
-use nidus::null::{merge_runs, read_draws};
+use nidus::analyses::assess::{is_part, merge_parts, parse_part};
+use nidus::null::{merge_runs, parse_draws};
+use nidus::Error;
 
 use super::null::{emit, header, render};
 use super::Format;
 
 #[derive(Args, Debug)]
 pub struct MergeArgs {
-    /// Files written by `nidus null --save-draws` (every shard of the run).
+    /// Files written by `nidus null --save-draws` or `nidus assess --save-draws`
+    /// (every shard of the run; one kind per call).
     #[arg(required = true, value_name = "PATH")]
     paths: Vec<PathBuf>,
     /// Output format.
@@ -22,15 +26,40 @@ pub struct MergeArgs {
 }
 
 pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
-    let mut parts = Vec::new();
+    let mut texts = Vec::new();
     for p in &args.paths {
-        parts.extend(read_draws(p)?);
+        let text = std::fs::read_to_string(p).map_err(|source| Error::Io {
+            path: p.clone(),
+            source,
+        })?;
+        texts.push((p, text));
     }
-    let runs = merge_runs(parts)?;
-    let mut text = header(args.format).unwrap_or_default();
-    for r in &runs {
-        text += &render(args.format, &r.file, &r.run)?;
-    }
+    let assess = texts.iter().filter(|(_, t)| is_part(t)).count();
+    let text = if assess > 0 {
+        if assess < texts.len() {
+            let other = texts.iter().find(|(_, t)| !is_part(t)).expect("counted");
+            return Err(Error::InvalidArgument(format!(
+                "{}: not an assessment part, but other files are; merge `null` draws and `assess` parts in separate calls",
+                other.0.display()
+            )));
+        }
+        let mut parts = Vec::new();
+        for (p, t) in &texts {
+            parts.push(parse_part(t, p)?);
+        }
+        super::assess::render(args.format, &merge_parts(parts)?)?
+    } else {
+        let mut parts = Vec::new();
+        for (p, t) in &texts {
+            parts.extend(parse_draws(t, p)?);
+        }
+        let runs = merge_runs(parts)?;
+        let mut text = header(args.format)?.unwrap_or_default();
+        for r in &runs {
+            text += &render(args.format, &r.file, &r.run, &r.run.summaries()?)?;
+        }
+        text
+    };
     let stdout = io::stdout();
     emit(&mut stdout.lock(), &text);
     Ok(ExitCode::SUCCESS)

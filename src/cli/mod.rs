@@ -4,20 +4,41 @@
 use std::process::ExitCode;
 
 use std::io::{self, Write};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use std::path::Path;
 
 use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, ReadReport};
 
+mod assess;
+mod atomic;
+mod effort;
+mod flat;
 mod measure;
 mod merge;
 mod null;
 mod report;
 mod sample;
+mod signals;
+mod species;
 
 /// Exit status for bad input or bad options.
 pub const EXIT_INPUT: u8 = 2;
+/// Exit status when a result could not be written (standard output or a
+/// file): a full disk, a closed device, a folder that cannot be written.
+pub const EXIT_OUTPUT: u8 = 3;
+
+/// Exit status of a run stopped by SIGINT or SIGTERM after saving its
+/// complete draws (128 + SIGINT, the shell's convention).
+pub const EXIT_INTERRUPTED: u8 = 130;
+
+/// `--threads` is capped at this many threads per core.
+pub const MAX_THREADS_PER_CORE: usize = 4;
+
+/// Set by [`emit`] when standard output failed; `main` then exits with
+/// [`EXIT_OUTPUT`] whatever the subcommand returned.
+static OUTPUT_FAILED: AtomicBool = AtomicBool::new(false);
 
 #[derive(Parser, Debug)]
 #[command(
@@ -44,6 +65,12 @@ enum Command {
     Merge(merge::MergeArgs),
     /// Write null networks drawn from a file's network.
     Sample(sample::SampleArgs),
+    /// Which species make a network nested: per-species contributions, leave-one-out, temperature.
+    Species(species::SpeciesArgs),
+    /// Rarefy a visit-count network: is it sampled enough for its nestedness to mean anything?
+    Effort(effort::EffortArgs),
+    /// Type I error and power of each index x null model on generated networks.
+    Assess(assess::AssessArgs),
 }
 
 /// Output formats shared by the subcommands.
@@ -58,13 +85,24 @@ pub enum Format {
 }
 
 /// Runs the command line and maps failures to exit statuses: 0 success,
-/// 2 bad input or options (clap's own usage errors also exit 2).
+/// 2 bad input or options (clap's own usage errors also exit 2), 3 a result
+/// that could not be written (standard output or a file).
 pub fn main() -> ExitCode {
     let cli = Cli::parse();
-    if let Some(n) = cli.threads {
+    if let Some(mut n) = cli.threads {
         if n == 0 {
             eprintln!("nidus: --threads must be at least 1");
             return ExitCode::from(EXIT_INPUT);
+        }
+        // More threads than cores only costs time to start them (results do
+        // not depend on the count): cap at a small multiple of the cores.
+        let cores = std::thread::available_parallelism().map_or(1, |c| c.get());
+        if n > MAX_THREADS_PER_CORE * cores {
+            eprintln!(
+                "nidus: --threads {n} is far above the {cores} core(s) here; using {}",
+                MAX_THREADS_PER_CORE * cores
+            );
+            n = MAX_THREADS_PER_CORE * cores;
         }
         if let Err(e) = rayon::ThreadPoolBuilder::new()
             .num_threads(n)
@@ -79,14 +117,31 @@ pub fn main() -> ExitCode {
         Command::Null(args) => null::run(args),
         Command::Merge(args) => merge::run(args),
         Command::Sample(args) => sample::run(args),
+        Command::Species(args) => species::run(args),
+        Command::Effort(args) => effort::run(args),
+        Command::Assess(args) => assess::run(args),
     };
-    match result {
+    let code = match result {
         Ok(code) => code,
+        Err(e @ nidus::Error::Write { .. }) => {
+            eprintln!("nidus: {e}");
+            ExitCode::from(EXIT_OUTPUT)
+        }
         Err(e) => {
             eprintln!("nidus: {e}");
             ExitCode::from(EXIT_INPUT)
         }
+    };
+    // Anything still buffered is written now, so its failure is seen too.
+    if let Err(e) = io::stdout().lock().flush() {
+        if e.kind() != io::ErrorKind::BrokenPipe && !OUTPUT_FAILED.swap(true, Ordering::SeqCst) {
+            eprintln!("nidus: cannot write the output: {e}");
+        }
     }
+    if OUTPUT_FAILED.load(Ordering::SeqCst) {
+        return ExitCode::from(EXIT_OUTPUT);
+    }
+    code
 }
 
 /// A comma-separated list of names on the command line.
@@ -220,14 +275,19 @@ pub fn print_read_notes(name: &str, report: &ReadReport) {
     }
 }
 
-/// Writes to stdout; false when the reader has gone (a closed pipe, as in
-/// `nidus ... | head`) or on another write error, which is reported.
+/// The one place the CLI writes results to standard output. Returns false
+/// when writing should stop: the reader has gone (a closed pipe, as in
+/// `nidus ... | head`, which is not an error), or another write error (a
+/// full disk: `nidus measure ok.csv > /dev/full`), which is reported once
+/// and makes the process exit with [`EXIT_OUTPUT`].
 pub fn emit(out: &mut impl Write, text: &str) -> bool {
     match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
         Ok(()) => true,
         Err(e) if e.kind() == io::ErrorKind::BrokenPipe => false,
         Err(e) => {
-            eprintln!("nidus: cannot write the output: {e}");
+            if !OUTPUT_FAILED.swap(true, Ordering::SeqCst) {
+                eprintln!("nidus: cannot write the output: {e}");
+            }
             false
         }
     }

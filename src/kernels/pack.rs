@@ -30,13 +30,13 @@ fn pack_body<T: Zero + Copy>(cells: &[T], words: &mut [u64]) {
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,avx512bw")]
-unsafe fn pack_avx512<T: Zero + Copy>(cells: &[T], words: &mut [u64]) {
+fn pack_avx512<T: Zero + Copy>(cells: &[T], words: &mut [u64]) {
     pack_body(cells, words)
 }
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
-unsafe fn pack_avx2<T: Zero + Copy>(cells: &[T], words: &mut [u64]) {
+fn pack_avx2<T: Zero + Copy>(cells: &[T], words: &mut [u64]) {
     pack_body(cells, words)
 }
 

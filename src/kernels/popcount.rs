@@ -128,19 +128,19 @@ fn panel_body(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "popcnt")]
-unsafe fn panel_popcnt(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+fn panel_popcnt(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
     panel_body(upper, lowers, out)
 }
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,popcnt")]
-unsafe fn panel_avx2(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+fn panel_avx2(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
     panel_body(upper, lowers, out)
 }
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,avx512vpopcntdq,popcnt")]
-unsafe fn panel_avx512(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+fn panel_avx512(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
     use std::arch::x86_64::*;
     let w = upper.len();
     if w == 0 {
@@ -210,7 +210,7 @@ impl std::fmt::Debug for PanelKernel {
     }
 }
 
-unsafe fn panel_portable(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
+fn panel_portable(upper: &[u64], lowers: &[u64], out: &mut [u64; PANEL]) {
     panel_body(upper, lowers, out)
 }
 

@@ -113,7 +113,8 @@ pub const MAX_TIE_ASSIGNMENT: usize = 2048;
 
 /// Discrepancy of one orientation, with ties among the ordering degrees in
 /// input order and resolved to the least value.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct DiscrepancyTies {
     /// Ties in input order (stable sort).
     pub stable: usize,
@@ -124,7 +125,8 @@ pub struct DiscrepancyTies {
 }
 
 /// Discrepancy in both orientations (METHODS.md §5).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Discrepancy {
     /// Ones shifted within rows, columns ordered by their sums (Brualdi &
     /// Sanderson's reading; [`discrepancy`] is `rows.stable`).

@@ -26,8 +26,9 @@ pub use temperature::{isocline_area, isocline_p, temperature, Temperature, Tempe
 pub use wnodf::wnodf;
 
 /// The order of rows and columns that an order-dependent index uses.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, serde::Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Order {
     /// Rows and columns by decreasing degree, ties in input order.
     #[default]
@@ -80,7 +81,8 @@ pub(crate) fn pairs(k: usize) -> usize {
 
 /// An index split into its row part, column part and total, as NODF and
 /// WNODF are. A part whose side has fewer than two members is `None`.
-#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Parts {
     /// Pairs of both sides together.
     pub total: f64,

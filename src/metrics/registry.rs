@@ -7,16 +7,15 @@
 //! `fn(&dyn NetView, &IndexOptions) -> Result<f64>` evaluator beside it) and
 //! one line in [`BUILTINS`]. Nothing else lists the indices.
 
-use serde::Serialize;
-
 use crate::error::{Error, Result};
 use crate::metrics::{discrepancy, nodf, spectral, temperature, wnodf};
 use crate::metrics::{Order, TemperatureOptions};
 use crate::storage::NetView;
 
 /// Which direction of a statistic means "more nested".
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "lowercase"))]
 pub enum Direction {
     /// Larger values are more nested (NODF, WNODF, spectral radius).
     Greater,

@@ -52,15 +52,15 @@
 use std::borrow::Cow;
 
 use rayon::prelude::*;
-use serde::Serialize;
 
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::metrics::registry::IndexOptions;
 use crate::storage::{BitMatrix, Layout, NetView};
 use crate::storage::{Csr, Weight};
 
 /// The spectral radius of a network's weighted and binary views.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SpectralRadius {
     /// Largest singular value of the weight matrix `W`.
     pub weighted: f64,
@@ -285,5 +285,15 @@ fn top_singular(lists: &Lists, weighted: bool) -> Result<f64> {
         second.apply(&tmp, y, weighted);
     })?;
     let scale = if weighted { lists.scale } else { 1.0 };
-    Ok(lambda.max(0.0).sqrt() * scale)
+    let radius = lambda.max(0.0).sqrt() * scale;
+    if !radius.is_finite() {
+        // The weights were scaled to at most 1 for the solver; only the
+        // final product overflows.
+        return Err(Error::InvalidArgument(format!(
+            "the weighted spectral radius is {} x {scale:e}, beyond the largest floating-point \
+             number: divide the weights by a constant (the radius scales with them)",
+            lambda.max(0.0).sqrt()
+        )));
+    }
+    Ok(radius)
 }

@@ -29,18 +29,17 @@
 //! the same holds for columns given the rows. See [`TemperatureOptions`] for
 //! the search built on that fact, exact on small matrices.
 
-use rand::seq::SliceRandom;
-use rand::SeedableRng;
-use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
 use crate::error::{Error, Result};
 use crate::metrics::degree_order;
 use crate::metrics::registry::IndexOptions;
+use crate::null::{purpose, shuffle, stream_rng};
 use crate::numerics::assign::Workspace;
 use crate::numerics::special::ln_gamma;
 use crate::storage::BitMatrix;
 use crate::storage::NetView;
+use crate::tolerance;
 
 /// The normalising constant of temperature: `T = 100 U / U_max` with `U` the
 /// mean unexpectedness per cell (Atmar & Patterson 1993). With it a large
@@ -63,6 +62,12 @@ pub const TEMPERATURE_CELL_LIMIT: usize = 1 << 24;
 /// with `K = max(m, n)`: roughly 0.1 s of work.
 pub const EXACT_WORK_LIMIT: f64 = 5e7;
 
+/// Largest side (rows or columns) whose order the packing search finds:
+/// each step solves a `k x k` assignment (`8 k^2` bytes, `O(k^3)` time at
+/// worst) for a side of `k` members, so a 1 x 100,000 table would need an
+/// 80 GB table. Above it packing is refused (use the sorted order).
+pub const PACKING_SIDE_LIMIT: usize = 2000;
+
 /// Rounds of the alternating search from one start are capped here (each
 /// accepted round lowers `T`, so in practice it stops long before).
 const MAX_ROUNDS: usize = 1000;
@@ -75,8 +80,10 @@ const MAX_ROUNDS: usize = 1000;
 ///   degree-sorted one (default 4). Cost grows linearly with it; 0 is the
 ///   cheapest packing. Ignored when the exact search applies.
 /// * `seed`: start `k` (1-based) is a uniformly random pair of row and
-///   column orders drawn from a Xoshiro256PlusPlus generator seeded from
-///   `(seed, k)` alone, so results do not depend on the number of threads.
+///   column orders, shuffled by the crate's own Fisher-Yates shuffle on the
+///   crate's stream [`stream_rng`]`(seed, purpose::TEMPERATURE_PACKING, k)`,
+///   so results depend on `(seed, k)` alone: not on the number of threads,
+///   nor on the version of rand.
 ///
 /// The search. Exact, when the smaller side is small (see
 /// [`EXACT_WORK_LIMIT`]): every order of the smaller side is tried, each
@@ -101,7 +108,9 @@ const MAX_ROUNDS: usize = 1000;
 /// with one start (`restarts = 0`), about 1.2 s; 1000 x 1000 at fill 0.1
 /// with one start, about 30 s. For matrices beyond a few hundred rows use
 /// `restarts = 0`, or `pack = false`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[non_exhaustive]
 pub struct TemperatureOptions {
     /// Search for the packed order.
     pub pack: bool,
@@ -109,6 +118,33 @@ pub struct TemperatureOptions {
     pub restarts: usize,
     /// Seed of the random starts.
     pub seed: u64,
+}
+
+impl TemperatureOptions {
+    /// Options with these settings (`TemperatureOptions::default()` is
+    /// `new(true, 4, 1)`; new settings may be added).
+    pub const fn new(pack: bool, restarts: usize, seed: u64) -> Self {
+        TemperatureOptions {
+            pack,
+            restarts,
+            seed,
+        }
+    }
+
+    /// These options with packing on or off.
+    pub const fn with_pack(self, pack: bool) -> Self {
+        TemperatureOptions { pack, ..self }
+    }
+
+    /// These options with `restarts` random starts.
+    pub const fn with_restarts(self, restarts: usize) -> Self {
+        TemperatureOptions { restarts, ..self }
+    }
+
+    /// These options with seed `seed` for the random starts.
+    pub const fn with_seed(self, seed: u64) -> Self {
+        TemperatureOptions { seed, ..self }
+    }
 }
 
 impl Default for TemperatureOptions {
@@ -123,7 +159,8 @@ impl Default for TemperatureOptions {
 }
 
 /// Temperature of one matrix in three orders.
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Temperature {
     /// `T` with rows and columns in input order.
     pub given: f64,
@@ -282,7 +319,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
         } else {
             hi = t;
         }
-        if hi - lo <= 1e-16 {
+        if hi - lo <= tolerance::ISOCLINE_BRACKET {
             break;
         }
         let slope =
@@ -293,7 +330,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
         } else {
             0.5 * (lo + hi)
         };
-        if (next - t).abs() <= 1e-17 {
+        if (next - t).abs() <= tolerance::ISOCLINE_STEP {
             t = next;
             break;
         }
@@ -302,6 +339,7 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
     t
 }
 
+#[doc(hidden)]
 /// The unexpectedness every cell of an `m x n` matrix with `L` ones would
 /// get, for a presence and for an absence, at every position: the table
 /// behind [`temperature`]. Reusable for all matrices of the same shape and
@@ -533,6 +571,7 @@ pub(crate) fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> R
     temperature_with_table(b, &table, opts)
 }
 
+#[doc(hidden)]
 /// Largest table (in cells, 2^20: 16 MiB) that [`temperature`]
 /// keeps per thread for reuse.
 pub const TABLE_CACHE_CELLS: usize = 1 << 20;
@@ -588,6 +627,16 @@ fn with_table(
     let sorted_total = table.total(b, &sorted_rows, &sorted_cols);
     let sorted = table.to_t(sorted_total);
     let (packed, row_order, col_order) = if opts.pack {
+        if m.max(n) > PACKING_SIDE_LIMIT {
+            let k = m.max(n);
+            return Err(Error::TooLarge {
+                what: "temperature's packing search (an assignment over the larger side; \
+                       temperature-sorted or --no-packing avoid it)",
+                rows: k,
+                cols: k,
+                bytes: 8 * (k as u128) * (k as u128),
+            });
+        }
         let best = pack(
             b,
             table,
@@ -807,14 +856,14 @@ impl<'a> Packer<'a> {
             let mut improved = false;
             let new_rows = self.best_rows(&cols, &mut cost, &mut row_work);
             let t = self.table.total(self.b, &new_rows, &cols);
-            if t < total - 1e-12 * (1.0 + total) {
+            if t < total - tolerance::PACKING_IMPROVEMENT * (1.0 + total) {
                 rows = new_rows;
                 total = t;
                 improved = true;
             }
             let new_cols = self.best_cols(&rows, &mut cost, &mut col_work);
             let t = self.table.total(self.b, &rows, &new_cols);
-            if t < total - 1e-12 * (1.0 + total) {
+            if t < total - tolerance::PACKING_IMPROVEMENT * (1.0 + total) {
                 cols = new_cols;
                 total = t;
                 improved = true;
@@ -924,23 +973,18 @@ pub fn packing_is_exact(m: usize, n: usize, links: usize) -> bool {
     perms * (big * big * big + big * links as f64 + (m * n) as f64) <= EXACT_WORK_LIMIT
 }
 
-/// The generator of random start `k`: Xoshiro256PlusPlus seeded from
-/// `(seed, k)` alone. Each of the four state words mixes both through the
-/// SplitMix64 finaliser, so every output depends on both numbers.
-fn start_rng(seed: u64, k: u64) -> Xoshiro256PlusPlus {
-    fn mix(mut z: u64) -> u64 {
-        z = z.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    let (a, b) = (mix(seed), mix(k ^ 0x7465_6d70_6572_6174));
-    let mut bytes = [0u8; 32];
-    for (t, chunk) in bytes.chunks_exact_mut(8).enumerate() {
-        let w = mix(a ^ mix(b.wrapping_add(t as u64)));
-        chunk.copy_from_slice(&w.to_le_bytes());
-    }
-    Xoshiro256PlusPlus::from_seed(bytes)
+/// The row and column orders of random start `k` (1-based): the identity
+/// orders shuffled, rows first, by the crate's Fisher-Yates shuffle on
+/// [`stream_rng`]`(seed, purpose::TEMPERATURE_PACKING, k)`. Depends on
+/// `(seed, k)` and the sizes alone: the same for any thread count and any
+/// rand version.
+pub(crate) fn start_orders(seed: u64, k: u64, m: usize, n: usize) -> (Vec<usize>, Vec<usize>) {
+    let mut rng = stream_rng(seed, purpose::TEMPERATURE_PACKING, k);
+    let mut rows: Vec<usize> = (0..m).collect();
+    let mut cols: Vec<usize> = (0..n).collect();
+    shuffle(&mut rows, &mut rng);
+    shuffle(&mut cols, &mut rng);
+    (rows, cols)
 }
 
 /// The packed order: the best of the sorted candidate and the search (exact
@@ -973,11 +1017,7 @@ fn pack(
             if k == 0 {
                 packer.descend(sorted.1.clone(), sorted.2.clone())
             } else {
-                let mut rng = start_rng(opts.seed, k);
-                let mut rows: Vec<usize> = (0..m).collect();
-                let mut cols: Vec<usize> = (0..n).collect();
-                rows.shuffle(&mut rng);
-                cols.shuffle(&mut rng);
+                let (rows, cols) = start_orders(opts.seed, k, m, n);
                 packer.descend(rows, cols)
             }
         })

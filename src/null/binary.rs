@@ -25,7 +25,7 @@ fn check_size<T: Weight>(net: &Network<T>) -> Result<()> {
 /// use nidus::{null::{draw_rng, Equiprobable}, Network};
 /// let net = Network::from_array(array![[1, 1, 0], [1, 0, 0]]).unwrap();
 /// let b = Equiprobable::new(&net).unwrap().sample(&mut draw_rng(7, 0));
-/// assert_eq!(b.count_ones(), 3);
+/// assert_eq!(b.links(), 3);
 /// ```
 #[derive(Clone, Debug)]
 pub struct Equiprobable {
@@ -71,7 +71,7 @@ impl Equiprobable {
 /// let net = Network::from_array(array![[1, 1], [1, 1]]).unwrap();
 /// // All degrees full: every probability is 1.
 /// let b = Proportional::new(&net).unwrap().sample(&mut draw_rng(1, 0));
-/// assert_eq!(b.count_ones(), 4);
+/// assert_eq!(b.links(), 4);
 /// ```
 #[derive(Clone, Debug)]
 pub struct Proportional {

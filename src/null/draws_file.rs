@@ -2,14 +2,14 @@
 //! written so that parts computed on different machines can be checked and
 //! merged into exactly the result of the unsplit run.
 //!
-//! # Format (version 1)
+//! # Format (version 2)
 //! Plain UTF-8 text, tab-separated. A file holds one or more *sections*, one
 //! per (network file, model) run, in the order the run made them. Each
 //! section is a header of `#` lines, a column line, then one line per draw
 //! (fields are separated by one tab, shown here as two spaces):
 //!
 //! ```text
-//! # nidus null draws  1
+//! # nidus null draws  2
 //! # file  plants.csv
 //! # model  fixed-both
 //! # seed  42
@@ -19,18 +19,32 @@
 //! # burn_in  1000
 //! # order  sorted
 //! # shape  200  200  4000
+//! # network  5d1c0a8f3b2e4c71
 //! # indices  nodf  nodf-rows
 //! # observed  23.408163265306122  21.5
 //! draw  nodf  nodf-rows
 //! 1  18.27  17.9
 //! 5  18.51  18.02
+//! # end  2  9c1e0e4d2a7b3f10
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or
-//! `none`; `shape` is rows, columns and links of the observed network.
+//! `none`; `shape` is rows, columns and links of the observed network;
+//! `network` its content fingerprint ([`fingerprint`]), by which `merge`
+//! matches the parts of one run (not by the file's name as spelled).
 //! Numbers are written in Rust's shortest round-trip form, so reading gives
 //! back the same `f64` bits and a merge prints the same bytes as the
 //! unsplit run.
+//!
+//! Every section ends with a trailer `# end  D  C`: `D` is the number of
+//! draw lines and `C` the 64-bit FNV-1a checksum (Fowler, Noll & Vo; the
+//! parameters of IETF draft-eastlake-fnv) of every byte of the section from
+//! its first `#` line through the newline of its last draw line, in 16 hex
+//! digits. A reader refuses a section whose trailer is missing (a part cut
+//! short, even inside its last number), whose count or checksum differs, or
+//! whose values no index can take (non-finite, negative, or above 100 for
+//! NODF, WNODF and temperature). Version 1 files (no trailer) are refused.
+//! The number of draws and of shards is bounded by [`MAX_DRAWS`].
 
 use std::collections::HashMap;
 use std::io::Write;
@@ -43,10 +57,96 @@ use crate::null::run::{NullRun, Shard};
 use crate::null::NullModel;
 
 const MAGIC: &str = "# nidus null draws";
-const VERSION: &str = "1";
+const VERSION: &str = "2";
+
+/// The largest number of draws a run (and so the largest number of shards
+/// a run is split into) that nidus accepts, on the command line and in a
+/// saved-draws file: 10^9.
+pub const MAX_DRAWS: usize = 1_000_000_000;
+
+/// 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325,
+/// prime 0x100000001b3 as in IETF draft-eastlake-fnv), fed in pieces.
+#[derive(Clone, Copy, Debug)]
+pub struct Fnv1a(u64);
+
+impl Default for Fnv1a {
+    fn default() -> Self {
+        Fnv1a(0xcbf2_9ce4_8422_2325)
+    }
+}
+
+impl Fnv1a {
+    /// Adds `bytes` to the checksum. Cost: one multiply per byte.
+    ///
+    /// # Example
+    /// ```
+    /// use nidus::null::Fnv1a;
+    /// // Test vectors of draft-eastlake-fnv: "" and "a".
+    /// assert_eq!(Fnv1a::default().finish(), 0xcbf29ce484222325);
+    /// let mut h = Fnv1a::default();
+    /// h.write(b"a");
+    /// assert_eq!(h.finish(), 0xaf63dc4c8601ec8c);
+    /// ```
+    pub fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 ^= u64::from(b);
+            self.0 = self.0.wrapping_mul(0x0000_0100_0000_01b3);
+        }
+    }
+    /// The checksum so far.
+    pub fn finish(self) -> u64 {
+        self.0
+    }
+}
+
+/// The content fingerprint of a network: 64-bit FNV-1a over its
+/// dimensions, its row and column labels and its links (row, column and the
+/// weight's bits), in storage order. Two files with the same table give the
+/// same fingerprint however their paths are spelled.
+///
+/// Cost: `O(m + n + links)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{null::draws_file::fingerprint, Network};
+/// let a = Network::from_array(array![[1, 0], [1, 1]]).unwrap();
+/// let b = Network::from_array(array![[1, 0], [1, 2]]).unwrap();
+/// assert_eq!(fingerprint(&a), fingerprint(&a.clone()));
+/// assert_ne!(fingerprint(&a), fingerprint(&b));
+/// ```
+pub fn fingerprint<T: crate::storage::Weight>(net: &crate::storage::Network<T>) -> u64 {
+    let mut h = Fnv1a::default();
+    h.write(&(net.nrows() as u64).to_le_bytes());
+    h.write(&(net.ncols() as u64).to_le_bytes());
+    for l in net.row_labels().iter().chain(net.col_labels()) {
+        h.write(&(l.len() as u64).to_le_bytes());
+        h.write(l.as_bytes());
+    }
+    let csr = net.csr();
+    for i in 0..net.nrows() {
+        let (cols, vals) = csr.row(i);
+        for (&j, w) in cols.iter().zip(vals) {
+            h.write(&(i as u64).to_le_bytes());
+            h.write(&j.to_le_bytes());
+            h.write(&w.as_f64().to_bits().to_le_bytes());
+        }
+    }
+    h.finish()
+}
+
+/// Whether `v` is a value index `kind` can take: finite, not negative, and
+/// at most 100 for the percentages (NODF family, WNODF, temperature).
+fn possible(kind: IndexKind, v: f64) -> bool {
+    let name = kind.name();
+    let percent =
+        name.starts_with("nodf") || name.starts_with("wnodf") || name.starts_with("temperature");
+    v.is_finite() && v >= 0.0 && (!percent || v <= 100.0)
+}
 
 /// A run read from a saved-draws file, with the label of its network file.
-#[derive(Clone, Debug, serde::Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct SavedRun {
     /// The network file the run tested, as given on the command line.
     pub file: String,
@@ -62,42 +162,104 @@ impl NullRun {
     /// Writes this run as one section of a saved-draws file (format in
     /// [`crate::null::draws_file`]). `file` is the network file's label; it
     /// must not contain a tab or a line break.
-    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> std::io::Result<()> {
+    ///
+    /// Errors: [`Error::InvalidArgument`] for such a name, [`Error::Output`]
+    /// when the writer fails.
+    pub fn write_draws<W: Write>(&self, file: &str, out: &mut W) -> Result<()> {
+        if file.contains(['\t', '\n', '\r']) {
+            return Err(Error::InvalidArgument(format!(
+                "the file name {file:?} holds a tab or line break; it cannot be saved"
+            )));
+        }
+        let mut write = || -> std::io::Result<()> {
+            let mut w = SectionWriter::begin(self, file, out)?;
+            for (k, vals) in self.draw_ids.iter().zip(&self.values) {
+                w.draw(*k, vals)?;
+            }
+            w.end()
+        };
+        write().map_err(|source| Error::Output { source })
+    }
+}
+
+/// One section of a saved-draws file written draw by draw: the header at
+/// [`SectionWriter::begin`], a line per [`SectionWriter::draw`], the
+/// trailer (count and checksum) at [`SectionWriter::end`]. A section
+/// without its trailer is refused by the reader, so a writer that never
+/// ends leaves a part `merge` will not take.
+pub struct SectionWriter<'w, W: Write> {
+    out: &'w mut W,
+    sum: Fnv1a,
+    count: usize,
+    line: String,
+}
+
+impl<'w, W: Write> SectionWriter<'w, W> {
+    /// Writes the header of `run`'s section (its draws are not written).
+    pub fn begin(run: &NullRun, file: &str, out: &'w mut W) -> std::io::Result<Self> {
         if file.contains(['\t', '\n', '\r']) {
             return Err(std::io::Error::new(
                 std::io::ErrorKind::InvalidInput,
                 format!("the file name {file:?} holds a tab or line break; it cannot be saved"),
             ));
         }
-        let names: Vec<&str> = self.indices.iter().map(|k| k.name()).collect();
+        let names: Vec<&str> = run.indices.iter().map(|k| k.name()).collect();
         let mut s = String::new();
         s.push_str(&format!("{MAGIC}\t{VERSION}\n"));
         s.push_str(&format!("# file\t{file}\n"));
-        s.push_str(&format!("# model\t{}\n", self.model));
-        s.push_str(&format!("# seed\t{}\n", self.seed));
-        s.push_str(&format!("# draws\t{}\n", self.draws));
-        s.push_str(&format!("# shard\t{}\n", opt(self.shard)));
-        s.push_str(&format!("# stop_after\t{}\n", opt(self.stop_after)));
-        s.push_str(&format!("# burn_in\t{}\n", opt(self.burn_in)));
-        s.push_str(&format!("# order\t{}\n", self.order));
-        let (m, n, l) = self.shape;
+        s.push_str(&format!("# model\t{}\n", run.model));
+        s.push_str(&format!("# seed\t{}\n", run.seed));
+        s.push_str(&format!("# draws\t{}\n", run.draws));
+        s.push_str(&format!("# shard\t{}\n", opt(run.shard)));
+        s.push_str(&format!("# stop_after\t{}\n", opt(run.stop_after)));
+        s.push_str(&format!("# burn_in\t{}\n", opt(run.burn_in)));
+        s.push_str(&format!("# order\t{}\n", run.order));
+        let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
+        s.push_str(&format!("# network\t{:016x}\n", run.network));
         s.push_str(&format!("# indices\t{}\n", names.join("\t")));
-        let obs: Vec<String> = self.observed.iter().map(|v| format!("{v:?}")).collect();
+        let obs: Vec<String> = run.observed.iter().map(|v| format!("{v:?}")).collect();
         s.push_str(&format!("# observed\t{}\n", obs.join("\t")));
         s.push_str(&format!("draw\t{}\n", names.join("\t")));
+        let mut sum = Fnv1a::default();
+        sum.write(s.as_bytes());
         out.write_all(s.as_bytes())?;
-        for (k, vals) in self.draw_ids.iter().zip(&self.values) {
-            s.clear();
-            s.push_str(&k.to_string());
-            for v in vals {
-                s.push('\t');
-                s.push_str(&format!("{v:?}"));
-            }
-            s.push('\n');
-            out.write_all(s.as_bytes())?;
+        Ok(SectionWriter {
+            out,
+            sum,
+            count: 0,
+            line: String::new(),
+        })
+    }
+
+    /// Writes draw `k`'s values.
+    pub fn draw(&mut self, k: u64, values: &[f64]) -> std::io::Result<()> {
+        use std::fmt::Write as _;
+        let s = &mut self.line;
+        s.clear();
+        let _ = write!(s, "{k}");
+        for v in values {
+            let _ = write!(s, "\t{v:?}");
         }
-        Ok(())
+        s.push('\n');
+        self.sum.write(s.as_bytes());
+        self.count += 1;
+        self.out.write_all(s.as_bytes())
+    }
+
+    /// Draws written so far.
+    pub fn count(&self) -> usize {
+        self.count
+    }
+
+    /// Writes the trailer.
+    pub fn end(self) -> std::io::Result<()> {
+        writeln!(
+            self.out,
+            "# end\t{}\t{:016x}",
+            self.count,
+            self.sum.finish()
+        )
     }
 }
 
@@ -113,9 +275,21 @@ pub fn read_draws(path: &Path) -> Result<Vec<SavedRun>> {
 struct Lines<'a> {
     path: &'a Path,
     lines: std::iter::Peekable<std::iter::Enumerate<std::str::Lines<'a>>>,
+    /// Checksum of the current section's lines so far.
+    sum: Fnv1a,
+    /// Number of the last line read (1-based; 0 before any).
+    last: usize,
 }
 
 impl<'a> Lines<'a> {
+    /// The next line (1-based number), added to the section's checksum.
+    fn next_line(&mut self) -> Option<(usize, &'a str)> {
+        let (no, line) = self.lines.next()?;
+        self.last = no + 1;
+        self.sum.write(line.as_bytes());
+        self.sum.write(b"\n");
+        Some((no + 1, line))
+    }
     fn err(&self, line: usize, column: Option<usize>, message: impl Into<String>) -> Error {
         Error::Parse {
             path: self.path.into(),
@@ -126,19 +300,19 @@ impl<'a> Lines<'a> {
     }
     /// The next header line `# key<TAB>fields...`, checked against `key`.
     fn header(&mut self, key: &str) -> Result<(usize, Vec<&'a str>)> {
-        let Some((no, line)) = self.lines.next() else {
+        let Some((no, line)) = self.next_line() else {
             return Err(self.err(0, None, format!("the file ends before the '# {key}' line")));
         };
         let mut fields = line.split('\t');
         let head = fields.next().unwrap_or("");
         if head != format!("# {key}") {
             return Err(self.err(
-                no + 1,
+                no,
                 Some(1),
                 format!("expected the header line '# {key}', found '{head}'"),
             ));
         }
-        Ok((no + 1, fields.collect()))
+        Ok((no, fields.collect()))
     }
     fn one(&mut self, key: &str) -> Result<(usize, &'a str)> {
         let (no, f) = self.header(key)?;
@@ -173,6 +347,19 @@ fn parse_opt<T: std::str::FromStr>(
     }
 }
 
+/// A value of index `kind`, refused unless the index can take it.
+fn value(l: &Lines<'_>, no: usize, col: usize, s: &str, kind: IndexKind) -> Result<f64> {
+    let v: f64 = parse_num(l, no, col, s, "number")?;
+    if !possible(kind, v) {
+        return Err(l.err(
+            no,
+            Some(col),
+            format!("{s} is not a value {} can take", kind.name()),
+        ));
+    }
+    Ok(v)
+}
+
 fn named<T: std::str::FromStr<Err = Error>>(
     l: &Lines<'_>,
     no: usize,
@@ -188,13 +375,21 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
     let mut l = Lines {
         path: source,
         lines: text.lines().enumerate().peekable(),
+        sum: Fnv1a::default(),
+        last: 0,
     };
     let mut out = Vec::new();
     while l.lines.peek().is_some() {
-        let (no, magic) = {
-            let (no, line) = l.lines.next().expect("peeked");
-            (no + 1, line)
-        };
+        l.sum = Fnv1a::default();
+        let (no, magic) = l.next_line().expect("peeked");
+        if magic == format!("{MAGIC}\t1") {
+            return Err(l.err(
+                no,
+                None,
+                "a saved-draws file of format 1 (no checksum trailer, from an older nidus): \
+                 re-run that part with this version",
+            ));
+        }
         if magic != format!("{MAGIC}\t{VERSION}") {
             return Err(l.err(
                 no,
@@ -210,12 +405,30 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         let (no, seed) = l.one("seed")?;
         let seed: u64 = parse_num(&l, no, 2, seed, "seed")?;
         let (no, draws) = l.one("draws")?;
-        let draws: usize = parse_num(&l, no, 2, draws, "number of draws")?;
+        let draws: usize = match draws.parse::<u128>() {
+            Ok(d) if d <= MAX_DRAWS as u128 => d as usize,
+            Ok(_) => {
+                return Err(l.err(
+                    no,
+                    Some(2),
+                    format!("{draws} draws is more than nidus accepts ({MAX_DRAWS})"),
+                ))
+            }
+            Err(_) => parse_num(&l, no, 2, draws, "number of draws")?,
+        };
         let (no, shard) = l.one("shard")?;
         let shard: Option<Shard> = if shard == "none" {
             None
         } else {
-            Some(named(&l, no, 2, shard)?)
+            let s: Shard = named(&l, no, 2, shard)?;
+            if s.count() > draws.max(1) {
+                return Err(l.err(
+                    no,
+                    Some(2),
+                    format!("shard {s} of a run of {draws} draws: more shards than draws"),
+                ));
+            }
+            Some(s)
         };
         let (no, stop) = l.one("stop_after")?;
         let stop_after: Option<usize> = parse_opt(&l, no, stop, "stop limit")?;
@@ -232,6 +445,11 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
             parse_num(&l, no, 3, shape[1], "column count")?,
             parse_num(&l, no, 4, shape[2], "link count")?,
         );
+        let (no, net) = l.one("network")?;
+        let network = match u64::from_str_radix(net, 16) {
+            Ok(v) if net.len() == 16 => v,
+            _ => return Err(l.err(no, Some(2), "'# network' needs a 16-digit hex fingerprint")),
+        };
         let (no, names) = l.header("indices")?;
         let indices: Vec<IndexKind> = names
             .iter()
@@ -256,23 +474,68 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         let observed: Vec<f64> = obs
             .iter()
             .enumerate()
-            .map(|(c, s)| parse_num(&l, no, c + 2, s, "number"))
+            .map(|(c, s)| value(&l, no, c + 2, s, indices[c]))
             .collect::<Result<_>>()?;
-        match l.lines.next() {
+        match l.next_line() {
             Some((_, line)) if line.split('\t').next() == Some("draw") => {}
             Some((no, _)) => {
-                return Err(l.err(no + 1, None, "expected the column line 'draw<TAB>...'"))
+                return Err(l.err(no, None, "expected the column line 'draw<TAB>...'"))
             }
             None => return Err(l.err(0, None, "the file ends before the column line")),
         }
         let mut draw_ids = Vec::new();
         let mut values = Vec::new();
-        while let Some(&(no, line)) = l.lines.peek() {
+        loop {
+            let before = l.sum;
+            let Some((no, line)) = l.next_line() else {
+                return Err(l.err(
+                    l.last,
+                    None,
+                    format!(
+                        "the section of {file} ({model}) ends without its '# end' trailer: \
+                         the part was cut short (an interrupted copy or a full disk?)"
+                    ),
+                ));
+            };
             if line.starts_with('#') {
+                let mut f = line.split('\t');
+                if f.next() != Some("# end") {
+                    return Err(l.err(
+                        no,
+                        None,
+                        format!(
+                            "expected a draw or the '# end' trailer of the section of {file} \
+                             ({model}): the part was cut short"
+                        ),
+                    ));
+                }
+                let (Some(count), Some(sum), None) = (f.next(), f.next(), f.next()) else {
+                    return Err(l.err(no, None, "'# end' needs a draw count and a checksum"));
+                };
+                if count.parse::<usize>().ok() != Some(draw_ids.len()) {
+                    return Err(l.err(
+                        no,
+                        Some(2),
+                        format!(
+                            "the trailer counts {count} draws but the section holds {}: \
+                             the part is damaged",
+                            draw_ids.len()
+                        ),
+                    ));
+                }
+                if u64::from_str_radix(sum, 16).ok() != Some(before.finish()) || sum.len() != 16 {
+                    return Err(l.err(
+                        no,
+                        Some(3),
+                        format!(
+                            "checksum {sum} does not match the section's content ({:016x}): \
+                             the part is damaged or was edited",
+                            before.finish()
+                        ),
+                    ));
+                }
                 break;
             }
-            l.lines.next();
-            let no = no + 1;
             let fields: Vec<&str> = line.split('\t').collect();
             if fields.len() != indices.len() + 1 {
                 return Err(l.err(
@@ -295,7 +558,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
             let v: Vec<f64> = fields[1..]
                 .iter()
                 .enumerate()
-                .map(|(c, s)| parse_num(&l, no, c + 2, s, "number"))
+                .map(|(c, s)| value(&l, no, c + 2, s, indices[c]))
                 .collect::<Result<_>>()?;
             draw_ids.push(k);
             values.push(v);
@@ -313,6 +576,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
                 burn_in,
                 order,
                 shape,
+                network,
                 draw_ids,
                 values,
             },
@@ -321,21 +585,49 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
     Ok(out)
 }
 
-/// Everything but the shard and the draws must agree between parts.
-fn same_run(a: &NullRun, b: &NullRun) -> bool {
-    a.model == b.model
-        && a.indices == b.indices
-        && a.observed
-            .iter()
-            .map(|v| v.to_bits())
-            .eq(b.observed.iter().map(|v| v.to_bits()))
-        && a.seed == b.seed
-        && a.draws == b.draws
-        && a.stop_after == b.stop_after
-        && a.burn_in == b.burn_in
-        && a.order == b.order
-        && a.shape == b.shape
-        && a.shard.map(|s| s.count()) == b.shard.map(|s| s.count())
+/// Everything but the shard and the draws must agree between parts of one
+/// run: the first setting that differs, as "name a vs b", or `None`.
+pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
+    fn d<T: std::fmt::Debug + PartialEq>(name: &str, x: T, y: T) -> Option<String> {
+        (x != y).then(|| format!("{name} {x:?} vs {y:?}"))
+    }
+    let names = |r: &NullRun| r.indices.iter().map(|k| k.name()).collect::<Vec<_>>();
+    d("model", a.model.name(), b.model.name())
+        .or_else(|| d("seed", a.seed, b.seed))
+        .or_else(|| d("draws", a.draws, b.draws))
+        .or_else(|| d("indices", names(a), names(b)))
+        .or_else(|| {
+            d(
+                "shard count",
+                a.shard.map(|s| s.count()),
+                b.shard.map(|s| s.count()),
+            )
+        })
+        .or_else(|| d("stop_after", a.stop_after, b.stop_after))
+        .or_else(|| d("burn_in", a.burn_in, b.burn_in))
+        .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
+        .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
+        .or_else(|| {
+            (a.network != b.network).then(|| {
+                format!(
+                    "network content {:016x} vs {:016x} (the network files differ)",
+                    a.network, b.network
+                )
+            })
+        })
+        .or_else(|| {
+            d(
+                "observed values (the network files differ)",
+                a.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
+                b.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
+            )
+            .map(|_| {
+                format!(
+                    "observed values {:?} vs {:?} (the network files differ)",
+                    a.observed, b.observed
+                )
+            })
+        })
 }
 
 /// Merges the parts of one or more runs into complete runs.
@@ -368,24 +660,47 @@ fn same_run(a: &NullRun, b: &NullRun) -> bool {
 /// assert_eq!(merged[0].run.summaries().unwrap(), whole.summaries().unwrap());
 /// ```
 pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
-    let mut order: Vec<(String, NullModel)> = Vec::new();
-    let mut groups: HashMap<(String, NullModel), Vec<NullRun>> = HashMap::new();
+    if parts.is_empty() {
+        return Err(Error::InvalidArgument(
+            "the parts hold no saved run: the shards that wrote them ended before saving any \
+             draws (or every file of the run failed)"
+                .into(),
+        ));
+    }
+    // Parts are grouped by network content and model; the label shown is
+    // the first part's.
+    let mut order: Vec<(u64, NullModel)> = Vec::new();
+    let mut labels: HashMap<(u64, NullModel), String> = HashMap::new();
+    let mut groups: HashMap<(u64, NullModel), Vec<NullRun>> = HashMap::new();
     for p in parts {
-        let key = (p.file.clone(), p.run.model);
+        let key = (p.run.network, p.run.model);
         if !groups.contains_key(&key) {
-            order.push(key.clone());
+            order.push(key);
+            labels.insert(key, p.file.clone());
         }
         groups.entry(key).or_default().push(p.run);
     }
     let mut out = Vec::with_capacity(order.len());
     for key in order {
         let runs = groups.remove(&key).expect("grouped");
+        let label = labels[&key].clone();
+        // Another group with the same name and model: a part of another network.
+        let clash = labels
+            .iter()
+            .any(|(k, l)| *k != key && k.1 == key.1 && *l == label);
+        if clash {
+            return Err(Error::InvalidArgument(format!(
+                "{label} / {}: the parts come from different runs: the network content differs \
+                 between parts with this name (the file changed between shards?)",
+                key.1.name()
+            )));
+        }
+        let key = (label, key.1);
         let what = format!("{} / {}", key.0, key.1.name());
         let first = &runs[0];
-        if let Some(bad) = runs.iter().find(|r| !same_run(first, r)) {
+        if let Some(diff) = runs.iter().find_map(|r| differing_setting(first, r)) {
             return Err(Error::InvalidArgument(format!(
-                "{what}: the parts come from different runs (seed {} vs {}, {} vs {} draws, or other settings differ)",
-                first.seed, bad.seed, first.draws, bad.draws
+                "{what}: the parts come from different runs: {diff}"
             )));
         }
         let merged = match first.shard {
@@ -399,28 +714,39 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
                 runs.into_iter().next().expect("one run")
             }
             Some(s) => {
+                // Shards counted from the parts given (no vector of size K).
                 let k = s.count();
-                let mut seen = vec![0usize; k];
-                for r in &runs {
-                    seen[r.shard.expect("same_run checked").index() - 1] += 1;
-                }
-                if let Some(i) = seen.iter().position(|&c| c > 1) {
+                let mut seen: Vec<usize> = runs
+                    .iter()
+                    .map(|r| r.shard.expect("same shard count checked").index())
+                    .collect();
+                seen.sort_unstable();
+                if let Some(w) = seen.windows(2).find(|w| w[0] == w[1]) {
+                    let times = seen.iter().filter(|&&i| i == w[0]).count();
                     return Err(Error::InvalidArgument(format!(
-                        "{what}: shard {}/{k} is given {} times",
-                        i + 1,
-                        seen[i]
+                        "{what}: shard {}/{k} is given {times} times",
+                        w[0]
                     )));
                 }
-                let missing: Vec<String> = seen
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, &c)| c == 0)
-                    .map(|(i, _)| format!("{}/{k}", i + 1))
-                    .collect();
-                if !missing.is_empty() {
+                if seen.len() < k {
+                    let mut missing = Vec::new();
+                    let mut next = 1usize;
+                    for &i in seen.iter().chain(std::iter::once(&(k + 1))) {
+                        while next < i && missing.len() < 10 {
+                            missing.push(format!("{next}/{k}"));
+                            next += 1;
+                        }
+                        next = i + 1;
+                    }
+                    let more = k - seen.len() - missing.len();
                     return Err(Error::InvalidArgument(format!(
-                        "{what}: shard(s) {} missing",
-                        missing.join(", ")
+                        "{what}: shard(s) {}{} missing",
+                        missing.join(", "),
+                        if more > 0 {
+                            format!(" and {more} more")
+                        } else {
+                            String::new()
+                        }
                     )));
                 }
                 let mut pairs: Vec<(u64, Vec<f64>)> = Vec::with_capacity(first.draws);

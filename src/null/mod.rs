@@ -67,13 +67,13 @@ use std::borrow::Cow;
 use ndarray::Array2;
 use rand::SeedableRng;
 use rand_xoshiro::Xoshiro256PlusPlus;
-use serde::Serialize;
 
 use crate::error::{Error, Result};
 #[allow(unused_imports)] // named in the module documentation
 use crate::metrics::Statistic;
 use crate::storage::{BitMatrix, Csr, Layout, NetView, Network, Weight};
 
+pub mod accumulate;
 mod binary;
 mod curveball;
 pub mod draws_file;
@@ -81,13 +81,14 @@ mod patefield;
 pub mod run;
 mod weighted;
 
+pub use accumulate::{DrawSummaries, Histogram};
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
-pub use draws_file::{merge_runs, parse_draws, read_draws, SavedRun};
+pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
 pub use patefield::FixedTotals;
 pub use run::{
-    run_null, run_null_with_progress, run_test, run_test_with_progress, NullConfig, NullRun,
-    RunOptions, Shard, TestRun,
+    run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
+    DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
 };
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
@@ -95,34 +96,36 @@ pub use weighted::{ShuffleCells, ShuffleWeights};
 /// be written against the same `rand` version as nidus.
 pub use rand::{distr::Distribution, Rng};
 
-/// The null models, named as on the command line.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize)]
+/// The null models, named as on the command line (more may be added).
+#[non_exhaustive]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub enum NullModel {
     /// `equiprobable`: the `L` ones placed uniformly among the `m n` cells.
-    #[serde(rename = "equiprobable")]
+    #[cfg_attr(feature = "serde", serde(rename = "equiprobable"))]
     Equiprobable,
     /// `proportional`: cell `(i, j)` is 1 with probability `(d_i/n + d_j/m)/2`.
-    #[serde(rename = "proportional")]
+    #[cfg_attr(feature = "serde", serde(rename = "proportional"))]
     Proportional,
     /// `fixed-rows`: each row's ones placed uniformly within the row.
-    #[serde(rename = "fixed-rows")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-rows"))]
     FixedRows,
     /// `fixed-columns`: each column's ones placed uniformly within the column.
-    #[serde(rename = "fixed-columns")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-columns"))]
     FixedColumns,
     /// `fixed-both`: uniform over binary matrices with the observed row and
     /// column degrees (curveball chain).
-    #[serde(rename = "fixed-both")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-both"))]
     FixedBoth,
     /// `shuffle-cells`: all `m n` values permuted.
-    #[serde(rename = "shuffle-cells")]
+    #[cfg_attr(feature = "serde", serde(rename = "shuffle-cells"))]
     ShuffleCells,
     /// `shuffle-weights`: non-zero values permuted among the occupied cells.
-    #[serde(rename = "shuffle-weights")]
+    #[cfg_attr(feature = "serde", serde(rename = "shuffle-weights"))]
     ShuffleWeights,
     /// `fixed-totals`: integer tables with the observed row and column sums
     /// (Patefield's algorithm).
-    #[serde(rename = "fixed-totals")]
+    #[cfg_attr(feature = "serde", serde(rename = "fixed-totals"))]
     FixedTotals,
 }
 
@@ -176,13 +179,23 @@ impl FromStr for NullModel {
     }
 }
 
-/// Options that some models read.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Serialize)]
+/// Options that some models read. Build it with [`NullOptions::new`] or
+/// `Default` and set fields (new options may be added).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
+#[non_exhaustive]
 pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
     /// `5 * max(m, n)`. Values below that default are allowed (for
     /// experiments) but METHODS.md asks for at least the default.
     pub burn_in: Option<usize>,
+}
+
+impl NullOptions {
+    /// Options with the given curveball trades per `fixed-both` draw.
+    pub const fn new(burn_in: Option<usize>) -> Self {
+        NullOptions { burn_in }
+    }
 }
 
 /// One null matrix: binary models give a [`BitMatrix`], weighted models a
@@ -332,8 +345,9 @@ enum Inner {
 impl NullSampler {
     /// Validates `net` for `model` (see each model's `new`) and prepares it.
     ///
-    /// Errors: a network too large for a dense table, or non-integer weights
-    /// for `fixed-totals`.
+    /// Errors: a network too large for a dense table, non-integer weights
+    /// for `fixed-totals`, or a `fixed-both` burn-in below the default
+    /// `5 * max(m, n)` (the least METHODS.md §6 allows).
     pub fn new<T: Weight>(
         net: &Network<T>,
         model: NullModel,
@@ -346,9 +360,18 @@ impl NullSampler {
             NullModel::FixedColumns => Inner::FixedColumns(FixedColumns::new(net)?),
             NullModel::FixedBoth => {
                 let start = CurveballChain::new(&net.binary()?);
-                let burn_in = options
-                    .burn_in
-                    .unwrap_or_else(|| CurveballChain::default_burn_in(net.nrows(), net.ncols()));
+                let least = CurveballChain::default_burn_in(net.nrows(), net.ncols());
+                let burn_in = options.burn_in.unwrap_or(least);
+                if burn_in < least {
+                    // Below it a draw stays close to the observed matrix
+                    // (burn-in 0 returns it unchanged): METHODS.md §6.
+                    return Err(Error::InvalidArgument(format!(
+                        "--burn-in {burn_in}: fixed-both needs at least 5 * max(rows, columns) \
+                         = {least} curveball trades per draw on this {} x {} network",
+                        net.nrows(),
+                        net.ncols()
+                    )));
+                }
                 Inner::FixedBoth(BurnIn::new(start, burn_in))
             }
             NullModel::ShuffleCells => Inner::ShuffleCells(ShuffleCells::new(net)?),
@@ -400,6 +423,7 @@ impl Distribution<NullDraw> for NullSampler {
     }
 }
 
+#[doc(hidden)]
 /// SplitMix64's output function applied to `x + 0x9E3779B97F4A7C15`
 /// (Steele, Lea & Flood 2014, OOPSLA; the multipliers and shifts are David
 /// Stafford's "variant 13" mixer, as in Vigna's reference `splitmix64.c`;
@@ -424,6 +448,31 @@ pub fn draw_rng(seed: u64, k: u64) -> Xoshiro256PlusPlus {
     Xoshiro256PlusPlus::seed_from_u64(draw_key(seed, k))
 }
 
+/// The purposes of [`stream_rng`]: one constant per randomised procedure
+/// outside the null draws, so two procedures with the same seed never share
+/// a stream. Part of the reproducibility contract: never change a value.
+pub mod purpose {
+    /// Random starts of temperature's packing search (`"tmp-pack"` in ASCII).
+    pub const TEMPERATURE_PACKING: u64 = u64::from_be_bytes(*b"tmp-pack");
+}
+
+/// The generator of stream `k` of procedure `purpose` under seed `seed`:
+/// with `key = splitmix64(draw_key(seed, k) ^ splitmix64(purpose))`, the
+/// four Xoshiro256++ state words are `splitmix64(key + t * 0x9E3779B97F4A7C15)`
+/// for `t = 0..4` (the SplitMix64 sequence started at `key`), set with
+/// `from_seed`. Everything here is this crate's own arithmetic, so the
+/// stream stays the same across rand and rand_xoshiro versions and thread
+/// counts. Part of the reproducibility contract, pinned by a value test.
+pub fn stream_rng(seed: u64, purpose: u64, k: u64) -> Xoshiro256PlusPlus {
+    let key = splitmix64(draw_key(seed, k) ^ splitmix64(purpose));
+    let mut bytes = [0u8; 32];
+    for (t, chunk) in bytes.chunks_exact_mut(8).enumerate() {
+        let w = splitmix64(key.wrapping_add((t as u64).wrapping_mul(0x9E37_79B9_7F4A_7C15)));
+        chunk.copy_from_slice(&w.to_le_bytes());
+    }
+    Xoshiro256PlusPlus::from_seed(bytes)
+}
+
 /// A uniform integer in `0..n` (`n > 0`) by Lemire's multiply-and-reject
 /// method (Lemire 2019, ACM TOMACS 29:3), from raw `u64` outputs.
 #[inline]
@@ -446,7 +495,11 @@ pub fn unit<R: Rng + ?Sized>(rng: &mut R) -> f64 {
     (rng.next_u64() >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
 }
 
-/// Shuffles `v` in place (Fisher-Yates, from the last position down).
+/// Shuffles `v` in place: Fisher-Yates (Durstenfeld 1964, CACM 7:420),
+/// from the last position down, position `i` swapped with a uniform `j` in
+/// `0..=i` drawn by [`below`]. Every randomised procedure of the crate
+/// shuffles with this, never with rand's `SliceRandom`, whose algorithm may
+/// change between rand versions.
 pub(crate) fn shuffle<T, R: Rng + ?Sized>(v: &mut [T], rng: &mut R) {
     for i in (1..v.len()).rev() {
         let j = below(rng, i + 1);
@@ -476,6 +529,10 @@ mod tests {
     use super::*;
     use rand::RngCore;
 
+    const STREAM_1_1: u64 = 0xe80a_3eb2_8bd7_2258;
+    const STREAM_1_2: u64 = 0xb938_c354_2b25_3873;
+    const SHUFFLE_1_1: [usize; 10] = [0, 2, 5, 1, 3, 7, 6, 4, 8, 9];
+
     /// SplitMix64 with state 0 gives 0xE220A8397B1DCDAF as its first output
     /// (the value rand_xoshiro's `SplitMix64` gives, see tests/published.rs;
     /// that it is also the test vector printed with Vigna's C code is
@@ -495,6 +552,43 @@ mod tests {
         assert_eq!(draw_rng(42, 0).next_u64(), 0xde5a_8312_db6d_cfc3);
         assert_eq!(draw_rng(42, 1).next_u64(), 0xe24c_5880_61ba_a2ff);
         assert_eq!(draw_key(42, 0), splitmix64(42 ^ splitmix64(0)));
+    }
+
+    /// Pinned first outputs of `stream_rng` (recorded from this code when
+    /// the contract was fixed); the state words follow the SplitMix64
+    /// sequence of the key.
+    #[test]
+    fn stream_rng_values_are_stable() {
+        let p = purpose::TEMPERATURE_PACKING;
+        assert_eq!(p, 0x746d_702d_7061_636b);
+        let key = splitmix64(draw_key(1, 1) ^ splitmix64(p));
+        let mut words = [0u8; 32];
+        for t in 0..4u64 {
+            let w = splitmix64(key.wrapping_add(t.wrapping_mul(0x9E37_79B9_7F4A_7C15)));
+            words[8 * t as usize..8 * t as usize + 8].copy_from_slice(&w.to_le_bytes());
+        }
+        assert_eq!(
+            stream_rng(1, p, 1).next_u64(),
+            Xoshiro256PlusPlus::from_seed(words).next_u64()
+        );
+        assert_eq!(stream_rng(1, p, 1).next_u64(), STREAM_1_1);
+        assert_eq!(stream_rng(1, p, 2).next_u64(), STREAM_1_2);
+        assert_ne!(
+            stream_rng(1, p, 1).next_u64(),
+            stream_rng(2, p, 1).next_u64()
+        );
+        assert_ne!(
+            stream_rng(1, p, 1).next_u64(),
+            stream_rng(1, p ^ 1, 1).next_u64()
+        );
+    }
+
+    /// The crate's shuffle on a pinned stream (recorded from this code).
+    #[test]
+    fn shuffle_values_are_stable() {
+        let mut v: Vec<usize> = (0..10).collect();
+        shuffle(&mut v, &mut stream_rng(1, purpose::TEMPERATURE_PACKING, 1));
+        assert_eq!(v, SHUFFLE_1_1);
     }
 
     /// `below` is uniform: frequencies over 6 values within 5 standard errors

@@ -15,6 +15,10 @@ const MAX_TOTAL: u64 = 1 << 53;
 /// `ln k!` is tabulated up to this `k`; above it Stirling's series is used.
 const TABLE: usize = 1 << 16;
 
+/// Above this variance a cell's hypergeometric value is drawn by ratio of uniforms
+/// (ratio of uniforms) instead of the walk from the mode.
+const WIDE_VARIANCE: f64 = 1e6;
+
 /// `fixed-totals`: integer tables with the observed row sums `r_i` and
 /// column sums `c_j`, drawn from their distribution under independence
 /// given the margins (the multiple hypergeometric: the `N` units of the
@@ -33,7 +37,11 @@ const TABLE: usize = 1 << 16;
 /// fixed by the margins. Each hypergeometric value is found by inversion,
 /// starting at the mode and stepping outwards, alternately up and down,
 /// with the ratio of successive probabilities, so the work per cell grows
-/// with the spread of its distribution rather than its range.
+/// with the spread of its distribution rather than its range. A cell whose
+/// distribution has a variance above 10^6 (sd above 1000) is drawn instead
+/// by Stadlober's ratio-of-uniforms method (HRUA, Stadlober 1989), in a
+/// bounded expected time whatever the counts, with this crate's own
+/// uniforms.
 ///
 /// Cost per draw: `O(sum over cells of (1 + sd of the cell))`; memory
 /// `O(m n)` for the table plus a `ln k!` table of at most 2^16 entries.
@@ -78,7 +86,15 @@ impl FixedTotals {
             let (cs, vals) = csr.row(i);
             for (&j, &x) in cs.iter().zip(vals) {
                 let v = x.as_f64();
-                if v.fract() != 0.0 || v > MAX_TOTAL as f64 {
+                if v > MAX_TOTAL as f64 {
+                    return Err(Error::InvalidArgument(format!(
+                        "the fixed-totals model accepts counts up to 2^53, but row '{}', column '{}' holds {}: too large",
+                        net.row_labels()[i],
+                        net.col_labels()[j as usize],
+                        x
+                    )));
+                }
+                if v.fract() != 0.0 {
                     return Err(Error::InvalidArgument(format!(
                         "the fixed-totals model needs whole-number counts, but row '{}', column '{}' holds {}",
                         net.row_labels()[i],
@@ -149,6 +165,15 @@ impl FixedTotals {
         if lo == hi {
             return lo;
         }
+        // A wide distribution: the walk below would take time growing with
+        // its spread (and, where the log-factorials lose accuracy, with its
+        // whole range). Ratio of uniforms takes a bounded expected time
+        // whatever the counts.
+        let (p, s, d) = (pop as f64, succ as f64, draws as f64);
+        let var = d * (s / p) * ((p - s) / p) * ((p - d) / (p - 1.0).max(1.0));
+        if var > WIDE_VARIANCE {
+            return self.hypergeometric_hrua(rng, pop, succ, draws);
+        }
         let mode = (((draws + 1) as u128 * (succ + 1) as u128) / (pop + 2) as u128) as u64;
         let mode = mode.clamp(lo, hi);
         let p_mode = (self.ln_choose(succ, mode) + self.ln_choose(pop - succ, draws - mode)
@@ -193,6 +218,68 @@ impl FixedTotals {
             // Rounding left the summed probabilities just below `u`: draw
             // again, scaled to the mass actually summed.
             u = unit(rng) * acc;
+        }
+    }
+
+    /// The hypergeometric value by Stadlober's ratio-of-uniforms method
+    /// HRUA (Stadlober 1989, "Sampling from Poisson, binomial and
+    /// hypergeometric distributions: ratio of uniforms as a simple and fast
+    /// alternative", Bericht 303, Joanneum Graz; constants and steps from
+    /// memory): a uniform point `(X, Y)` gives the candidate
+    /// `W = mean + 0.5 + c (Y - 1/2) / X`, accepted when `X^2` lies below
+    /// its probability relative to the mode (with the two squeezes of the
+    /// method). Expected cost bounded independently of the counts; the
+    /// tail beyond 16 sd is cut (probability below e^-100).
+    fn hypergeometric_hrua<R: Rng + ?Sized>(
+        &self,
+        rng: &mut R,
+        pop: u64,
+        succ: u64,
+        draws: u64,
+    ) -> u64 {
+        const D1: f64 = 1.715_527_769_921_413_5; // 2 sqrt(2/e)
+        const D2: f64 = 0.898_916_162_058_898_8; // 3 - 2 sqrt(3/e)
+        let fail = pop - succ;
+        let (small, large) = (succ.min(fail), succ.max(fail));
+        let m = draws.min(pop - draws);
+        let p = small as f64 / pop as f64;
+        let d6 = m as f64 * p + 0.5;
+        let d7 = ((pop - m) as f64 * draws as f64 * p * (1.0 - p) / (pop - 1) as f64 + 0.5).sqrt();
+        let d8 = D1 * d7 + D2;
+        let mode = (((m + 1) as u128 * (small + 1) as u128) / (pop + 2) as u128) as u64;
+        let lnf = |z: u64| {
+            self.ln_factorial(z)
+                + self.ln_factorial(small - z)
+                + self.ln_factorial(m - z)
+                + self.ln_factorial(large - m + z)
+        };
+        let d10 = lnf(mode);
+        let d11 = ((m.min(small) + 1) as f64).min((d6 + 16.0 * d7).floor());
+        let z = loop {
+            let x = unit(rng);
+            let y = unit(rng);
+            let w = d6 + d8 * (y - 0.5) / x;
+            if !(0.0..d11).contains(&w) {
+                continue;
+            }
+            let z = w.floor() as u64;
+            let t = d10 - lnf(z);
+            if x * (4.0 - x) - 3.0 <= t {
+                break z;
+            }
+            if x * (x - t) >= 1.0 {
+                continue;
+            }
+            if 2.0 * x.ln() <= t {
+                break z;
+            }
+        };
+        // Back from the smaller side and the smaller sample.
+        let z = if succ > fail { m - z } else { z };
+        if m < draws {
+            succ - z
+        } else {
+            z
         }
     }
 

@@ -8,7 +8,6 @@ use std::str::FromStr;
 
 use rand::distr::Distribution;
 use rayon::prelude::*;
-use serde::Serialize;
 
 use crate::error::{Error, Result};
 use crate::index::{IndexKind, IndexOptions};
@@ -20,7 +19,7 @@ use crate::storage::{NetView, Network, Weight};
 /// Draws evaluated together between progress reports and stop checks. A
 /// constant (not a function of the thread count) so that a sequential stop
 /// ends after the same draws on any machine.
-pub const BATCH: usize = 64;
+pub(crate) const BATCH: usize = 64;
 
 /// One part of a run split for a cluster: shard `index` of `count`
 /// (1-based) takes the draws `k` (0-based) with `k % count == index - 1`.
@@ -71,7 +70,8 @@ impl FromStr for Shard {
     }
 }
 
-impl Serialize for Shard {
+#[cfg(feature = "serde")]
+impl serde::Serialize for Shard {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         s.collect_str(self)
     }
@@ -136,7 +136,10 @@ impl RunOptions {
 }
 
 /// What to run: one model, the indices to test, how many draws and how.
+/// Build it with [`NullConfig::new`] and set fields (new settings may be
+/// added).
 #[derive(Clone, Debug)]
+#[non_exhaustive]
 pub struct NullConfig {
     /// The null model.
     pub model: NullModel,
@@ -188,30 +191,31 @@ impl NullConfig {
         }
     }
 
-    fn check(&self) -> Result<()> {
+    /// Checks the settings without running anything (the runner checks them
+    /// too): at least one index and two draws, a sequential stop `H >= 2`
+    /// and not with a shard, at least one thread, and no index that reads
+    /// weights under a model that draws binary matrices.
+    pub fn check(&self) -> Result<()> {
         if self.indices.is_empty() {
             return Err(Error::InvalidArgument("no index to test".into()));
         }
         self.run_options().check()?;
         if !self.model.is_weighted() {
             if let Some(k) = self.indices.iter().find(|k| k.needs_weights()) {
-                return Err(Error::InvalidArgument(format!(
-                    "{k} reads weights but {} draws binary matrices; test it against shuffle-cells, shuffle-weights or fixed-totals",
-                    self.model
-                )));
+                return Err(Error::WeightsUnderBinaryModel {
+                    index: k.name(),
+                    model: self.model.name(),
+                });
             }
         }
         Ok(())
     }
 }
 
-fn ser_order<S: serde::Serializer>(o: &Order, s: S) -> std::result::Result<S::Ok, S::Error> {
-    s.serialize_str(o.name())
-}
-
 /// The draws of a run (or of one shard of it) and everything needed to
 /// summarise or merge them.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct NullRun {
     /// The model.
     pub model: NullModel,
@@ -230,10 +234,13 @@ pub struct NullRun {
     /// Curveball trades per draw (`fixed-both` only).
     pub burn_in: Option<usize>,
     /// Order used by order-dependent indices.
-    #[serde(serialize_with = "ser_order")]
     pub order: Order,
     /// Rows, columns and links of the observed network.
     pub shape: (usize, usize, usize),
+    /// Content fingerprint of the observed network
+    /// ([`crate::null::draws_file::fingerprint`]): parts of one run are
+    /// matched by it, not by how the file's name was spelled.
+    pub network: u64,
     /// Indices `k` of the draws computed, ascending.
     pub draw_ids: Vec<u64>,
     /// `values[t][i]`: index `i` on draw `draw_ids[t]`.
@@ -284,10 +291,11 @@ impl NullRun {
 }
 
 fn incomplete(have: usize, draws: usize, shard: Option<Shard>) -> Error {
-    Error::InvalidArgument(format!(
-        "these are {have} of the {draws} draws (shard {}); merge every shard before summarising",
-        shard.map_or("-".to_string(), |s| s.to_string())
-    ))
+    Error::IncompleteRun {
+        held: have,
+        draws,
+        shard: shard.map(|s| (s.index(), s.count())),
+    }
 }
 
 /// True when draws `0..R` are all there (or, with a sequential stop, draws
@@ -322,7 +330,8 @@ fn complete(
 
 /// The draws of a test of any statistics against any sampler (see
 /// [`run_test`]), in draw order.
-#[derive(Clone, Debug, Serialize)]
+#[derive(Clone, Debug)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct TestRun {
     /// The statistics' names, in the order of the values of each draw.
     pub names: Vec<String>,
@@ -331,7 +340,7 @@ pub struct TestRun {
     /// Observed value of each statistic.
     pub observed: Vec<f64>,
     /// The options the run was made with.
-    #[serde(skip)]
+    #[cfg_attr(feature = "serde", serde(skip))]
     pub options: RunOptions,
     /// Indices `k` of the draws computed, ascending.
     pub draw_ids: Vec<u64>,
@@ -418,7 +427,7 @@ where
 ///
 /// Every statistic is evaluated on `observed` and on every draw. Draw `k`
 /// is `sampler.sample(&mut `[`draw_rng`]`(seed, k))`; draws are computed in
-/// parallel in batches of [`BATCH`] in draw order and stored in draw order,
+/// parallel in batches of 64 draws in draw order and stored in draw order,
 /// so the values (and the summaries) are identical for any thread count,
 /// and the draws of shards `1/K..K/K` together are exactly the draws of the
 /// unsplit run. With a sequential stop the run ends after the first batch
@@ -470,6 +479,51 @@ where
     D: Distribution<M> + Sync,
     M: NetView,
 {
+    let mut draw_ids = Vec::new();
+    let mut values = Vec::new();
+    let (observed, directions) = test_stream(
+        observed_view,
+        statistics,
+        sampler,
+        options,
+        0,
+        progress,
+        &mut |_, k, v| {
+            draw_ids.push(k);
+            values.push(v.to_vec());
+            Ok(true)
+        },
+    )?;
+    Ok(TestRun {
+        names: statistics.iter().map(|s| s.name().to_string()).collect(),
+        directions,
+        observed,
+        options: options.clone(),
+        draw_ids,
+        values,
+    })
+}
+
+/// The receiver of a streamed test's draws, `(observed, k, values)`, in
+/// draw order; returns false to stop.
+type StreamSink<'a> = dyn FnMut(&[f64], u64, &[f64]) -> Result<bool> + Send + 'a;
+
+/// The draws of a test handed one by one to `sink` in draw order, from the
+/// first of the run's draws numbered `start` or above; no list of draw
+/// numbers and no stored draws. Returns the observed values and directions.
+fn test_stream<D, M>(
+    observed_view: &dyn NetView,
+    statistics: &[&dyn Statistic],
+    sampler: &D,
+    options: &RunOptions,
+    start: u64,
+    progress: &(dyn Fn(usize) + Sync),
+    sink: &mut StreamSink<'_>,
+) -> Result<(Vec<f64>, Vec<Direction>)>
+where
+    D: Distribution<M> + Sync,
+    M: NetView,
+{
     let observed: Vec<f64> = statistics
         .iter()
         .map(|s| s.evaluate(observed_view))
@@ -479,13 +533,31 @@ where
         let draw: M = sampler.sample(&mut draw_rng(options.seed, k));
         statistics.iter().map(|s| s.evaluate(&draw)).collect()
     };
-    let ids: Vec<u64> = (0..options.draws as u64)
-        .filter(|&k| options.shard.is_none_or(|s| s.contains(k)))
-        .collect();
-    let mut draw_ids = Vec::with_capacity(ids.len());
-    let mut values = Vec::with_capacity(ids.len());
+    if start > 0 && options.stop_after.is_some() {
+        return Err(Error::InvalidArgument(
+            "a run with a sequential stop cannot be resumed; run it again".into(),
+        ));
+    }
+    // This run's draw numbers, in order, without a list of them.
+    let (first, step) = match options.shard {
+        Some(s) => ((s.index() - 1) as u64, s.count() as u64),
+        None => (0, 1),
+    };
+    let first = if start > first {
+        first + (start - first).div_ceil(step) * step
+    } else {
+        first
+    };
+    let mut ids = (first..options.draws as u64).step_by(step as usize);
+    let mut done = 0usize;
     let mut hits = vec![0usize; statistics.len()];
-    for batch in ids.chunks(BATCH) {
+    let mut batch: Vec<u64> = Vec::with_capacity(BATCH);
+    loop {
+        batch.clear();
+        batch.extend(ids.by_ref().take(BATCH));
+        if batch.is_empty() {
+            break;
+        }
         let got: Vec<Result<Vec<f64>>> = batch.par_iter().map(|&k| eval(k)).collect();
         for (&k, v) in batch.iter().zip(got) {
             let v = v?;
@@ -494,24 +566,19 @@ where
                     hits[i] += 1;
                 }
             }
-            draw_ids.push(k);
-            values.push(v);
+            done += 1;
+            if !sink(&observed, k, &v)? {
+                return Ok((observed, directions));
+            }
         }
-        progress(draw_ids.len());
+        progress(done);
         if let Some(h) = options.stop_after {
             if hits.iter().all(|&c| c >= h) {
                 break;
             }
         }
     }
-    Ok(TestRun {
-        names: statistics.iter().map(|s| s.name().to_string()).collect(),
-        directions,
-        observed,
-        options: options.clone(),
-        draw_ids,
-        values,
-    })
+    Ok((observed, directions))
 }
 
 /// Runs a null-model test: see [`run_null_with_progress`].
@@ -538,7 +605,7 @@ pub fn run_null<T: Weight>(net: &Network<T>, config: &NullConfig) -> Result<Null
 ///
 /// Draw `k` is made with [`crate::null::draw_rng`]`(seed, k)` and every
 /// index is evaluated on it; draws are computed in parallel in batches of
-/// [`BATCH`] in draw order and stored in draw order, so the values (and the
+/// 64 draws in draw order and stored in draw order, so the values (and the
 /// summaries) are identical for any thread count, and the draws of shards
 /// `1/K..K/K` together are exactly the draws of the unsplit run. With a
 /// sequential stop the run ends after the first batch by which every index
@@ -601,7 +668,91 @@ fn run_inner<T: Weight>(
         burn_in: sampler.burn_in(),
         order: config.order,
         shape: (net.nrows(), net.ncols(), net.links()),
+        network: crate::null::draws_file::fingerprint(net),
         draw_ids: run.draw_ids,
         values: run.values,
     })
+}
+
+/// The receiver of a streamed run's draws: `(run without draws, k, values)`,
+/// returning false to stop.
+pub type DrawSink<'a> = dyn FnMut(&NullRun, u64, &[f64]) -> Result<bool> + Send + 'a;
+
+/// Runs a null-model test like [`run_null_with_progress`] but hands each
+/// draw to `sink(head, k, values)` in draw order instead of keeping it
+/// (`head` is the run without draws, with its observed values); `sink`
+/// returns false to stop the run early (an interrupted run: the draws
+/// handed so far are exactly draws `k` of the run, in order). Draws
+/// numbered below `start` are skipped (a resumed run: they were saved
+/// before; not with a sequential stop, whose count would miss them).
+/// Returns the run without draws. Memory: one batch of draws, not `O(R)`.
+///
+/// # Example
+/// ```
+/// use ndarray::array;
+/// use nidus::{index::IndexKind, null::*, Network};
+/// let net = Network::from_array(array![[1, 1, 0], [1, 0, 1], [0, 1, 0]]).unwrap();
+/// let nodf = IndexKind::named("nodf").unwrap();
+/// let config = NullConfig::new(NullModel::FixedRows, vec![nodf], 20, 5);
+/// let whole = run_null(&net, &config).unwrap();
+/// let mut got = Vec::new();
+/// run_null_streaming(&net, &config, 12, &|_| {}, &mut |_, k, v| {
+///     got.push((k, v[0]));
+///     Ok(true)
+/// })
+/// .unwrap();
+/// assert_eq!(got[0], (12, whole.values[12][0]));
+/// assert_eq!(got.len(), 8);
+/// ```
+pub fn run_null_streaming<T: Weight>(
+    net: &Network<T>,
+    config: &NullConfig,
+    start: u64,
+    progress: &(dyn Fn(usize) + Sync),
+    sink: &mut DrawSink<'_>,
+) -> Result<NullRun> {
+    config.check()?;
+    let mut go = || -> Result<NullRun> {
+        let sampler = NullSampler::new(net, config.model, &config.options)?;
+        let opts = IndexOptions::with_order(config.order);
+        let stats: Vec<_> = config.indices.iter().map(|k| k.statistic(opts)).collect();
+        let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
+        let options = config.run_options();
+        let network = crate::null::draws_file::fingerprint(net);
+        let make_head = |observed: &[f64]| NullRun {
+            model: config.model,
+            indices: config.indices.clone(),
+            observed: observed.to_vec(),
+            seed: config.seed,
+            draws: config.draws,
+            shard: config.shard,
+            stop_after: config.stop_after,
+            burn_in: sampler.burn_in(),
+            order: config.order,
+            shape: (net.nrows(), net.ncols(), net.links()),
+            network,
+            draw_ids: Vec::new(),
+            values: Vec::new(),
+        };
+        let mut head: Option<NullRun> = None;
+        let mut inner = |observed: &[f64], k: u64, v: &[f64]| -> Result<bool> {
+            let h = head.get_or_insert_with(|| make_head(observed));
+            sink(h, k, v)
+        };
+        let (observed, _) = if config.model.is_weighted() {
+            test_stream(net, &stats, &sampler, &options, start, progress, &mut inner)?
+        } else {
+            let b = net.binary()?;
+            test_stream(&b, &stats, &sampler, &options, start, progress, &mut inner)?
+        };
+        Ok(head.unwrap_or_else(|| make_head(&observed)))
+    };
+    match config.threads {
+        Some(t) => rayon::ThreadPoolBuilder::new()
+            .num_threads(t)
+            .build()
+            .map_err(|e| Error::InvalidArgument(format!("cannot start {t} threads: {e}")))?
+            .install(go),
+        None => go(),
+    }
 }

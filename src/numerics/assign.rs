@@ -19,7 +19,8 @@
 use crate::error::{Error, Result};
 
 /// An optimal assignment with its dual certificate.
-#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize))]
 pub struct Assignment {
     /// `cols[i]` = the column given to row `i`; all distinct.
     pub cols: Vec<usize>,

@@ -9,6 +9,7 @@
 use rayon::prelude::*;
 
 use crate::error::{Error, Result};
+use crate::tolerance;
 
 /// Largest Lanczos basis before a restart.
 pub const BASIS: usize = 30;
@@ -92,7 +93,7 @@ pub(crate) fn lanczos_top(
     work: f64,
     mut apply: impl FnMut(&[f64], &mut [f64]),
 ) -> Result<f64> {
-    const TOL: f64 = 1e-12;
+    const TOL: f64 = tolerance::LANCZOS_RESIDUAL;
     let kmax = BASIS.min(dim);
     let mut start = vec![1.0 / (dim as f64).sqrt(); dim];
     let mut products = 0usize;
@@ -133,7 +134,8 @@ pub(crate) fn lanczos_top(
                 .iter()
                 .chain(&beta)
                 .fold(0.0f64, |a, &x| a.max(x.abs()));
-            let invariant = b <= 1e-14 * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
+            let invariant =
+                b <= tolerance::LANCZOS_INVARIANT * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
             // The small eigenproblem costs O(k^3): solved every step at
             // first, then every fourth step and at the end of each cycle.
             let check = invariant
@@ -253,11 +255,12 @@ fn long_lanczos(
         alpha.push(a);
         let b = norm(&w);
         let tnorm = alpha.iter().chain(&beta).fold(b, |m, &x| m.max(x.abs()));
-        let invariant = b <= 1e-14 * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
+        let invariant =
+            b <= tolerance::LANCZOS_INVARIANT * tnorm.max(f64::MIN_POSITIVE) || k + 1 == dim;
         if invariant || k + 1 == next_check {
             let theta = sturm_top(&alpha, &beta).max(last);
             change = (theta - last).abs() / theta.abs().max(f64::MIN_POSITIVE);
-            if invariant || change <= 1e-13 {
+            if invariant || change <= tolerance::LANCZOS_LONG_CHANGE {
                 return Ok(theta);
             }
             last = theta;
@@ -342,7 +345,7 @@ fn tridiagonal_top(alpha: &[f64], beta: &[f64]) -> (Vec<f64>, Vec<f64>, f64) {
             .map(|(p, q)| a[p * k + q] * a[p * k + q])
             .sum();
         let diag: f64 = (0..k).map(|p| a[p * k + p] * a[p * k + p]).sum();
-        if off <= 1e-32 * diag || off == 0.0 {
+        if off <= tolerance::JACOBI_OFF_DIAGONAL * diag || off == 0.0 {
             break;
         }
         for p in 0..k {

@@ -136,9 +136,15 @@ impl BitMatrix {
         }
         d
     }
-    /// Total number of ones.
-    pub fn count_ones(&self) -> usize {
+    /// Number of links (ones), `O(m n / 64)`; the same quantity as
+    /// [`Network::links`](crate::Network::links).
+    pub fn links(&self) -> usize {
         self.bits.iter().map(|w| w.count_ones() as usize).sum()
+    }
+    /// Old name of [`links`](Self::links).
+    #[doc(hidden)]
+    pub fn count_ones(&self) -> usize {
+        self.links()
     }
     /// Column indices of the ones in row `i`, ascending.
     pub fn row_ones(&self, i: usize) -> impl Iterator<Item = usize> + '_ {

@@ -17,6 +17,7 @@ use num_traits::{ToPrimitive, Zero};
 
 use crate::error::{Error, Result};
 use crate::storage::bits::BitMatrix;
+use crate::tolerance;
 
 /// A weight type: any copyable number that can be compared and converted to
 /// `f64` (all primitive integers and floats qualify).
@@ -139,9 +140,15 @@ impl<T: Weight> Csr<T> {
     pub fn ncols(&self) -> usize {
         self.ncols
     }
-    /// Number of stored (non-zero) cells.
-    pub fn nnz(&self) -> usize {
+    /// Number of links (stored non-zero cells); the same quantity as
+    /// [`Network::links`].
+    pub fn links(&self) -> usize {
         self.indices.len()
+    }
+    /// Old name of [`links`](Self::links).
+    #[doc(hidden)]
+    pub fn nnz(&self) -> usize {
+        self.links()
     }
     /// Row pointer array (`nrows + 1` entries).
     pub fn indptr(&self) -> &[usize] {
@@ -371,7 +378,8 @@ impl<T: Weight> Network<T> {
         }
         let csr = Csr::from_triplets(m, n, entries);
         let cells_total = (m as u128) * (n as u128);
-        let sparse = cells_total > (1 << 22) && (csr.nnz() as f64) < 0.05 * cells_total as f64;
+        let sparse = cells_total > tolerance::SPARSE_MIN_CELLS
+            && (csr.links() as f64) < tolerance::SPARSE_MAX_FILL * cells_total as f64;
         let cells = if sparse {
             Cells::Sparse(csr)
         } else {

@@ -138,3 +138,39 @@ pub fn write_matrix_file(path: &Path, w: &Mat) {
     }
     std::fs::write(path, s).unwrap();
 }
+
+/// Slow species contribution from its definition (Saavedra, Stouffer, Uzzi &
+/// Bascompte 2011, Nature 478:233-235; METHODS.md §8): re-draw only row
+/// `i`'s cells, each cell `j` present with probability `(d_i/n + d_j/m)/2`
+/// (Bascompte et al. 2003, PNAS 100:9383-9387), recompute NODF (sorted) in
+/// full with [`reference_nodf`] for each of `draws` draws, and return
+/// `(mean, sd, z)` with the sd's divisor `R - 1`. Its random numbers come
+/// from `rng`, independent of the crate's streams. Column species: pass the
+/// transpose.
+pub fn reference_contribution(
+    w: &Mat,
+    i: usize,
+    draws: usize,
+    rng: &mut impl Rng,
+) -> (f64, f64, f64) {
+    let (m, n) = (w.len(), w[0].len());
+    let deg = |r: &Vec<f64>| r.iter().filter(|&&x| x > 0.0).count();
+    let di = deg(&w[i]) as f64;
+    let cd: Vec<f64> = (0..n)
+        .map(|j| (0..m).filter(|&r| w[r][j] > 0.0).count() as f64)
+        .collect();
+    let observed = reference_nodf(w, true, false).0;
+    let mut v = w.clone();
+    let mut values = Vec::with_capacity(draws);
+    for _ in 0..draws {
+        for j in 0..n {
+            let p = (di / n as f64 + cd[j] / m as f64) / 2.0;
+            v[i][j] = if rng.random_bool(p) { 1.0 } else { 0.0 };
+        }
+        values.push(reference_nodf(&v, true, false).0);
+    }
+    let r = draws as f64;
+    let mean = values.iter().sum::<f64>() / r;
+    let sd = (values.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (r - 1.0)).sqrt();
+    (mean, sd, (observed - mean) / sd)
+}
