@@ -28,6 +28,8 @@
 
 pub mod analyses;
 pub mod error;
+#[cfg(feature = "figures")]
+pub mod figures;
 pub mod index;
 pub mod io;
 /// Bit-packing and popcount kernels with their CPU dispatch: internal,

@@ -9,6 +9,7 @@ use nidus::measure::{measure, Family, MeasureOptions, Measurement};
 use nidus::metrics::TemperatureOptions;
 use nidus::{Error, Order};
 
+use super::figure::{figure_paths, MatrixFigureArgs};
 use super::report::Table;
 use super::{
     emit, input_name, parse_list, print_read_notes, read_input_unprinted, report_failure, Format,
@@ -56,6 +57,8 @@ pub struct MeasureArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    #[command(flatten)]
+    figure: MatrixFigureArgs,
 }
 
 /// The most random starts of the temperature packing search accepted.
@@ -99,6 +102,13 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             .with_restarts(args.restarts),
     );
     let table = Table::new(args.format, &opts)?;
+    let svg_paths = match &args.figure.svg {
+        Some(base) => {
+            args.figure.options(base)?; // bad --svg-names fail before any file is read
+            Some(figure_paths(base, &args.files)?)
+        }
+        None => None,
+    };
     let stdout = io::stdout();
     let mut out = stdout.lock();
     let mut failed = 0usize;
@@ -107,7 +117,7 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             return Ok(ExitCode::SUCCESS);
         }
     }
-    for file in &args.files {
+    for (k, file) in args.files.iter().enumerate() {
         let shown = input_name(file);
         let bar = spinner();
         bar.set_message(format!("{shown}: reading"));
@@ -129,6 +139,11 @@ pub fn run(args: MeasureArgs) -> nidus::Result<ExitCode> {
             bar.finish_and_clear();
             if let Some(e) = explicit_failure(&m, &explicit) {
                 return Err(e);
+            }
+            if let Some(paths) = &svg_paths {
+                let fig = nidus::figures::matrix_figure(&net, &m, &args.figure.options(file)?)?;
+                fig.save(&paths[k])?;
+                eprintln!("nidus: figure written to {}", paths[k].display());
             }
             Ok(table.record(&shown, &m, (net.row_labels(), net.col_labels()), dropped))
         });

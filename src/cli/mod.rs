@@ -14,6 +14,7 @@ use nidus::io::{EdgeHeader, Labels, Layout, ReadNote, ReadOptions, ReadOutcome, 
 mod assess;
 mod atomic;
 mod effort;
+mod figure;
 mod flat;
 mod measure;
 mod merge;

@@ -10,6 +10,7 @@ use std::time::{Duration, Instant};
 
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
+use nidus::figures::{null_figure, NullPanel};
 use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
@@ -74,6 +75,10 @@ pub struct NullArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Write a figure of each file's null distributions (one panel per index and model) as SVG
+    /// to PATH (with several files: PATH's name with each file's name inserted).
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 /// One JSON line or CSV row of a null test: the run's identity, then the
@@ -459,6 +464,16 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
         );
     }
+    if args.shard.is_some() && args.svg.is_some() {
+        return Err(Error::InvalidArgument(
+            "--svg needs every draw: draw the figure from the unsplit run (a shard holds only part of the draws)"
+                .into(),
+        ));
+    }
+    let svg_paths = match &args.svg {
+        Some(base) => Some(super::figure::figure_paths(base, &args.files)?),
+        None => None,
+    };
     let read = args.input.read_options();
     super::check_stdin_once(&args.files)?;
     // Written beside the target and renamed into place only when every file
@@ -489,8 +504,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
     super::signals::install();
     let mut failed = 0usize;
     let mut interrupted = false;
-    'files: for file in &args.files {
+    'files: for (file_no, file) in args.files.iter().enumerate() {
         let shown = input_name(file);
+        let mut panels: Vec<NullPanel> = Vec::new();
         let net = match read_input(file, &read) {
             Ok(r) => r.network,
             Err(e) => {
@@ -604,6 +620,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 let text = match acc.summaries() {
                     Ok(sums) => {
                         let head = run_head.as_ref().expect("set with the first draw");
+                        if svg_paths.is_some() {
+                            panels.extend(null_panels(head, &acc, &sums, &shown));
+                        }
                         render(args.format, &shown, (head, acc.draws()), &sums)?
                     }
                     Err(e) => {
@@ -617,6 +636,11 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                     break 'files;
                 }
             }
+        }
+        if let (Some(paths), false) = (&svg_paths, panels.is_empty()) {
+            let fig = null_figure(&panels, &shown)?;
+            fig.save(&paths[file_no])?;
+            eprintln!("nidus: figure written to {}", paths[file_no].display());
         }
     }
     if interrupted {
@@ -652,6 +676,34 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
 /// Refuses draw and shard counts that no run needs and that would exhaust
 /// memory or time: at most [`MAX_DRAWS`] draws, at most as many shards as
 /// draws.
+/// One figure panel per index of a finished run, from the kept draws. A run
+/// past the exact-draw limit keeps no draws to draw a histogram from: it is
+/// left out of the figure with a note.
+fn null_panels(
+    head: &NullRun,
+    acc: &DrawSummaries,
+    sums: &[NullSummary],
+    shown: &str,
+) -> Vec<NullPanel> {
+    let mut panels = Vec::new();
+    for (i, (k, s)) in head.indices.iter().zip(sums).enumerate() {
+        match acc.values(i) {
+            Some(v) => panels.push(NullPanel {
+                index: k.name().to_string(),
+                model: head.model.name().to_string(),
+                values: v.to_vec(),
+                summary: s.clone(),
+            }),
+            None => eprintln!(
+                "nidus: {shown} ({}, {}): too many draws to keep for the figure; its panel is left out",
+                head.model.name(),
+                k.name()
+            ),
+        }
+    }
+    panels
+}
+
 /// A failure while starting a run's output: bad resumed draws, or a write.
 enum BeginError {
     Input(Error),
