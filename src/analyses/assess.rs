@@ -1,5 +1,5 @@
 //! Method assessment: type I error and power of every index x null model on
-//! networks shaped like the user's (METHODS.md §10, after Ulrich & Gotelli
+//! networks shaped like the user's (docs/methods.md §10, after Ulrich & Gotelli
 //! 2007, Ecology 88:1824-1831).
 //!
 //! For each *scenario* (a way of generating test networks: [`Scenario`]),

@@ -52,18 +52,18 @@ pub const MANIFEST: &str = "nidus-manifest.json";
 pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
     if args.count == 0 {
         return Err(Error::InvalidArgument(
-            "--count 0 writes nothing: give the number of networks wanted".into(),
+            "--draws 0 writes nothing: give the number of networks wanted".into(),
         ));
     }
     if args.count > MAX_COUNT {
         return Err(Error::InvalidArgument(format!(
-            "--count {}: at most {MAX_COUNT} networks per call (use several seeds)",
+            "--draws {}: at most {MAX_COUNT} networks per call (use several seeds)",
             args.count
         )));
     }
     if args.count > SANE_COUNT && !args.force {
         return Err(Error::InvalidArgument(format!(
-            "--count {} writes {} files: add --force to confirm (more than {SANE_COUNT})",
+            "--draws {} writes {} files: add --force to confirm (more than {SANE_COUNT})",
             args.count, args.count
         )));
     }

@@ -216,7 +216,7 @@ fn short(label: &str) -> String {
 
 /// The network as a picture: one cell per interaction in packed temperature
 /// order, the isocline of perfect nestedness over it, and the unexpected
-/// cells marked (METHODS.md §4; Atmar & Patterson 1993, Oecologia
+/// cells marked (docs/methods.md §4; Atmar & Patterson 1993, Oecologia
 /// 96:373-382; isocline family of Rodríguez-Gironés & Santamaría 2006,
 /// J. Biogeogr. 33:924-935).
 ///

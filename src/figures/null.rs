@@ -86,7 +86,7 @@ fn bins(values: &[f64]) -> (f64, f64, Vec<usize>) {
 /// 97.5 % quantile, Hyndman & Fan 1996 definition 7) as a shaded band, the
 /// observed value as a vertical line (class `observed`), and z and the
 /// one-sided p-value in the more-nested direction in the panel title
-/// (METHODS.md §7: `p = (1 + #{null at least as nested}) / (R + 1)`).
+/// (docs/methods.md §7: `p = (1 + #{null at least as nested}) / (R + 1)`).
 ///
 /// Panels are laid out with one row per model and one column per index, in
 /// order of first appearance. Each panel's plot area is a `rect` of class

@@ -186,8 +186,7 @@ impl FromStr for NullModel {
 #[non_exhaustive]
 pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
-    /// `5 * max(m, n)`. Values below that default are allowed (for
-    /// experiments), but the default is the recommended minimum (docs/methods.md §6).
+    /// `5 * max(m, n)`, which is also the least accepted (docs/methods.md §6).
     pub burn_in: Option<usize>,
 }
 
@@ -347,7 +346,7 @@ impl NullSampler {
     ///
     /// Errors: a network too large for a dense table, non-integer weights
     /// for `fixed-totals`, or a `fixed-both` burn-in below the default
-    /// `5 * max(m, n)` (the least METHODS.md §6 allows).
+    /// `5 * max(m, n)` (the least docs/methods.md §6 allows).
     pub fn new<T: Weight>(
         net: &Network<T>,
         model: NullModel,
