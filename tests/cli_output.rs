@@ -323,6 +323,17 @@ fn old_option_spellings_are_aliases() {
         b"",
     ));
     assert_eq!(a, b);
+    let m = demo("meadow_visits.csv");
+    let effort = |flag: &str| {
+        ok(&nidus(
+            &[
+                "effort", &m, "--seed", "1", "--draws", "3", "--depths", "100,200", flag, "nodf",
+                "--format", "json",
+            ],
+            b"",
+        ))
+    };
+    assert_eq!(effort("--index"), effort("--indices"));
     let dir = std::env::temp_dir().join(format!("nidus-alias-{}", std::process::id()));
     for (k, flag) in ["--draws", "--count"].iter().enumerate() {
         let d = dir.join(k.to_string());
