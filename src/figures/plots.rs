@@ -250,7 +250,9 @@ fn marker(shape: usize, cx: f64, cy: f64, r: f64, colour: &str) -> PathEl {
 /// Rejection rate against effect strength: one line per series with a
 /// marker at each point and a whisker from `low` to `high`, a dashed
 /// horizontal line at the nominal level `alpha` (class `alpha-line`), the
-/// rate axis fixed at 0-1. Series differ in colour and marker shape.
+/// rate axis fixed at 0-1, the level named in the legend. Series differ
+/// in colour and marker shape and are set a few px apart sideways (5 px
+/// between neighbours) so their whiskers stay visible.
 ///
 /// Cost: linear in the number of points.
 ///
@@ -331,18 +333,16 @@ pub fn rejection_figure(
             .set("stroke-dasharray", "5 4")
             .set("class", "alpha-line"),
     );
-    g = g.add(
-        text(
-            &format!("α = {}", num(alpha, 3)),
-            left + pw - 4.0,
-            sy.at(alpha) - 5.0,
-            style::TICK_PX,
-            "end",
-        )
-        .set("fill", INK),
-    );
+    // Series are dodged sideways by a few px so that whiskers at the same
+    // strength do not hide each other.
+    let dodge = |k: usize| (k as f64 - 0.5 * (series.len() as f64 - 1.0)) * 5.0;
     for (k, s) in series.iter().enumerate() {
         let colour = SERIES[k % SERIES.len()];
+        let sx = Scale {
+            p0: sx.p0 + dodge(k),
+            p1: sx.p1 + dodge(k),
+            ..sx
+        };
         let mut pts = s.points.clone();
         pts.sort_by(|a, b| a.strength.total_cmp(&b.strength));
         let mut sg = Group::new().set("class", "series");
@@ -414,6 +414,11 @@ pub fn rejection_figure(
         }
         ly += 6.0;
     }
+    lg = lg.add(line(lx, ly, lx + 22.0, ly, INK, 1.2).set("stroke-dasharray", "5 4"));
+    let alpha_name = format!("nominal level α = {}", num(alpha, 3));
+    lg = lg.add(text(&alpha_name, lx + 30.0, ly + 4.0, TEXT_PX, "start"));
+    legend_w = legend_w.max(text_width(&alpha_name, TEXT_PX));
+    ly += TEXT_PX * 1.3 + 6.0;
     lg = lg.add(text(
         "whiskers: interval of the rate",
         lx,
