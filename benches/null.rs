@@ -1,5 +1,6 @@
 //! Null-model throughput: curveball (`fixed-both`) draws with and without
-//! NODF evaluated on each, and an independent-draw model for comparison.
+//! NODF evaluated on each, and an independent-draw model for comparison;
+//! `fixed-totals/draw+wnodf` on a 200 x 200 table of counts 1-9 at fill 0.2.
 //!
 //! Sizes: 200 x 200 at fill 0.1 (the acceptance case of the null-model
 //! issue). Set `NIDUS_BENCH_LARGE=1` to add 1000 x 1000 at fill 0.05.
@@ -25,6 +26,7 @@ fn bench(c: &mut Criterion) {
     if std::env::var_os("NIDUS_BENCH_LARGE").is_some() {
         sizes.push((1000, 1000, 0.05));
     }
+    let opts_all = IndexOptions::default();
     let mut g = c.benchmark_group("null");
     g.throughput(Throughput::Elements(1));
     for (m, n, fill) in sizes {
@@ -54,6 +56,28 @@ fn bench(c: &mut Criterion) {
             );
         }
     }
+    // fixed-totals with WNODF on each draw (weighted counts 0-9, 200 x 200).
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(3);
+    let w = ndarray::Array2::from_shape_fn((200, 200), |_| {
+        if rng.random_bool(0.2) {
+            f64::from(rng.random_range(1u8..10))
+        } else {
+            0.0
+        }
+    });
+    let net = Network::from_array(w).unwrap();
+    let s = NullSampler::new(&net, NullModel::FixedTotals, &NullOptions::default()).unwrap();
+    let wnodf = IndexKind::named("wnodf").unwrap();
+    let mut k = 0u64;
+    g.bench_function(
+        BenchmarkId::new("fixed-totals/draw+wnodf", "200x200@0.2"),
+        |b| {
+            b.iter(|| {
+                k += 1;
+                evaluate(wnodf, &s.draw(7, k), &opts_all).unwrap()
+            })
+        },
+    );
     g.finish();
 }
 

@@ -2,8 +2,12 @@
 //! spectral radius of sparse ones. Inputs are seeded random networks built
 //! before timing; each iteration computes the value from the in-memory
 //! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
+//! `wnodf_dense_given/4000`: WNODF in the given order of a dense 4,000 x
+//! 4,000 network at fill 0.2 with weights 1-20.
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
-//! (throughput: draws per second); `temperature_packing/200` one packed
+//! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
+//! same with the pre-word-level trade kept in `support/curveball_lists.rs`
+//! (side-by-side comparison); `temperature_packing/200` one packed
 //! temperature with the default starts.
 //!
 //! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
@@ -13,12 +17,16 @@
 #[path = "support/inputs.rs"]
 mod inputs;
 
+#[path = "support/curveball_lists.rs"]
+#[allow(missing_docs)]
+mod curveball_lists;
+
 use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use ndarray::Array2;
 use nidus::metrics::{nodf, spectral_radius, temperature, wnodf, Order, TemperatureOptions};
-use nidus::null::{NullDraw, NullModel, NullOptions, NullSampler};
+use nidus::null::{draw_rng, BurnIn, Distribution, NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -27,6 +35,20 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 fn dense(m: usize, fill: f64, seed: u64) -> Network<u8> {
     let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
     let w = Array2::from_shape_fn((m, m), |_| (rng.random::<f64>() < fill) as u8);
+    Network::from_array(w).expect("a random dense network has links")
+}
+
+/// A dense `m x m` network with each cell present with probability `fill`
+/// and weights uniform in `1..=max_weight`.
+fn dense_weighted(m: usize, fill: f64, max_weight: u32, seed: u64) -> Network<u32> {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+    let w = Array2::from_shape_fn((m, m), |_| {
+        if rng.random::<f64>() < fill {
+            rng.random_range(1..=max_weight)
+        } else {
+            0
+        }
+    });
     Network::from_array(w).expect("a random dense network has links")
 }
 
@@ -85,6 +107,15 @@ fn sparse_kernels(c: &mut Criterion) {
         b.iter(|| wnodf(net, Order::Sorted).unwrap().total)
     });
     g.finish();
+    let mut g = c.benchmark_group("wnodf_dense_given");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(8));
+    let net = dense_weighted(4000, 0.2, 20, 4);
+    g.throughput(Throughput::Elements(16_000_000));
+    g.bench_with_input(BenchmarkId::from_parameter(4000), &net, |b, net| {
+        b.iter(|| wnodf(net, Order::Given).unwrap().total)
+    });
+    g.finish();
     let mut g = c.benchmark_group("spectral_sparse");
     g.sample_size(10).warm_up_time(Duration::from_secs(1));
     g.measurement_time(Duration::from_secs(4));
@@ -112,6 +143,24 @@ fn null_and_packing(c: &mut Criterion) {
             let NullDraw::Binary(d) = sampler.draw(11, k) else {
                 unreachable!("binary model")
             };
+            nodf(&d, Order::Sorted).unwrap().total
+        })
+    });
+    g.finish();
+
+    // The old list-based trade, same burn-in, same draw keys.
+    let lists = BurnIn::new(
+        curveball_lists::ListCurveball::new(&net.binary().unwrap()),
+        sampler.burn_in().unwrap(),
+    );
+    let mut g = c.benchmark_group("null_fixed_both_nodf_lists");
+    g.sample_size(20).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    g.throughput(Throughput::Elements(1));
+    g.bench_function(BenchmarkId::from_parameter(200), |b| {
+        b.iter(|| {
+            k += 1;
+            let d = lists.sample(&mut draw_rng(11, k));
             nodf(&d, Order::Sorted).unwrap().total
         })
     });

@@ -1,5 +1,8 @@
 //! Timing script for temperature packing (release build):
-//! `cargo run --release --example temperature_timing -- [SIZE] [FILL] [RESTARTS|none]`.
+//! `cargo run --release --example temperature_timing -- [SIZE] [FILL] [RESTARTS|none] [side-by-side]`.
+//! With `side-by-side`, the packing is also timed with the cost tables
+//! built by the direct gather loop (the loop before the blocked one), in
+//! the order blocked, direct, blocked, and the results are checked equal.
 //! Prints the time of the given/sorted values and of packing, and the
 //! temperatures found, for a seeded random square matrix.
 
@@ -8,7 +11,10 @@ use std::time::Instant;
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
-use nidus::metrics::temperature::{temperature, TemperatureOptions};
+use nidus::metrics::temperature::{
+    temperature, temperature_with_table, temperature_with_table_direct_gathers, TemperatureOptions,
+    UnexpectednessTable,
+};
 use nidus::numerics::assign::assign;
 use nidus::BitMatrix;
 
@@ -56,4 +62,30 @@ fn main() {
         t.packed.unwrap(),
         t0.elapsed().as_secs_f64()
     );
+
+    if args.get(4).map(String::as_str) != Some("side-by-side") {
+        return;
+    }
+    let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
+    let mut results = Vec::new();
+    for (name, direct) in [("blocked", false), ("direct", true), ("blocked", false)] {
+        let t0 = Instant::now();
+        let t = if direct {
+            temperature_with_table_direct_gathers(&b, &table, &opts)
+        } else {
+            temperature_with_table(&b, &table, &opts)
+        }
+        .unwrap();
+        println!(
+            "  {name} cost tables: packed {:.6} in {:.2} s",
+            t.packed.unwrap(),
+            t0.elapsed().as_secs_f64()
+        );
+        results.push(t);
+    }
+    assert!(
+        results.windows(2).all(|w| w[0] == w[1]),
+        "identical results"
+    );
+    println!("  identical results (T and both orders)");
 }

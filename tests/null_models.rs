@@ -588,3 +588,21 @@ fn every_model_is_calibrated() {
     }
     assert!(failures.is_empty(), "{failures:?}");
 }
+
+/// Margins with many admissible matrices (rows 3,2,2,1; columns
+/// 2,2,2,1,1 on 4 x 5: the brute-force list has 117 of them, and trades
+/// pool up to 5 columns): all equally often
+/// (Pearson chi-square, p > 0.001, as above: a uniform chain fails this
+/// check with probability 0.001 for a given seed).
+#[test]
+fn fixed_both_uniform_on_many_matrices() {
+    let start: Mat = vec![
+        vec![1.0, 1.0, 1.0, 0.0, 0.0],
+        vec![1.0, 1.0, 0.0, 0.0, 0.0],
+        vec![0.0, 0.0, 1.0, 1.0, 0.0],
+        vec![0.0, 0.0, 0.0, 0.0, 1.0],
+    ];
+    let states = all_with_margins(&[3, 2, 2, 1], &[2, 2, 2, 1, 1]).len();
+    assert_eq!(states, 117, "117 by a separate enumeration (Python)");
+    check_uniform(&start, 60, 14);
+}

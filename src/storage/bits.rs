@@ -83,6 +83,19 @@ impl BitMatrix {
     pub fn row_mut(&mut self, i: usize) -> &mut [u64] {
         &mut self.bits[i * self.words..(i + 1) * self.words]
     }
+    /// The words of two distinct rows `a` and `b`, both mutably.
+    #[inline]
+    pub(crate) fn two_rows_mut(&mut self, a: usize, b: usize) -> (&mut [u64], &mut [u64]) {
+        assert!(a != b && a < self.nrows && b < self.nrows);
+        let w = self.words;
+        if a < b {
+            let (lo, hi) = self.bits.split_at_mut(b * w);
+            (&mut lo[a * w..(a + 1) * w], &mut hi[..w])
+        } else {
+            let (lo, hi) = self.bits.split_at_mut(a * w);
+            (&mut hi[..w], &mut lo[b * w..(b + 1) * w])
+        }
+    }
     /// Cell `(i, j)`.
     #[inline]
     pub fn get(&self, i: usize, j: usize) -> bool {

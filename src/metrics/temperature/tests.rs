@@ -441,7 +441,7 @@ fn alternating_search_bounds_on_tiny_matrices() {
         let sc = degree_order(&b.col_degrees());
         let st = table.total(&b, &sr, &sc);
         let opts = TemperatureOptions::default();
-        let (u, rows, cols) = pack(&b, &table, (st, sr, sc), &opts, false);
+        let (u, rows, cols) = pack(&b, &table, (st, sr, sc), &opts, false, false);
         let t = table.to_t(u);
         let want = brute_min(&a);
         assert!(t <= table.to_t(st));
@@ -473,6 +473,7 @@ fn alternating_search_is_a_local_minimum() {
             &table,
             (st, sr, sc),
             &TemperatureOptions::default(),
+            false,
             false,
         );
         let t = table.to_t(u);
@@ -667,6 +668,29 @@ fn reused_table_gives_the_same_values() {
         assert!((cached.given - ref_t(m, &rows, &cols)).abs() < 1e-9);
     }
     assert_eq!(bits(&b).count_ones(), ones);
+}
+
+/// The blocked cost-table loop gives the packed T and both orders of the
+/// direct gather loop it replaced, bit for bit (shapes with one block and
+/// with several, including a partial last block, as tests use blocks of
+/// 256 cells; seeded random matrices).
+#[test]
+fn blocked_cost_table_matches_direct_gathers() {
+    for (seed, m, n, fill) in [(1u64, 90, 120, 0.2), (2, 40, 150, 0.15), (3, 230, 35, 0.3)] {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(80_000 + seed);
+        let b = bits(&random_cells(&mut rng, m, n, fill));
+        let opts = TemperatureOptions {
+            pack: true,
+            restarts: 2,
+            seed,
+        };
+        let table = UnexpectednessTable::new(m, n, b.count_ones()).unwrap();
+        let new = temperature_with_table(&b, &table, &opts).unwrap();
+        let old = super::temperature_with_table_direct_gathers(&b, &table, &opts).unwrap();
+        assert_eq!(new.packed.unwrap().to_bits(), old.packed.unwrap().to_bits());
+        assert_eq!(new.row_order, old.row_order, "seed {seed}");
+        assert_eq!(new.col_order, old.col_order, "seed {seed}");
+    }
 }
 
 const PINNED_START: ([usize; 6], [usize; 4]) = ([0, 1, 3, 2, 4, 5], [0, 3, 1, 2]);

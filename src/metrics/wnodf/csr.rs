@@ -119,6 +119,8 @@ fn weighted_counts<T: Weight>(
         ranks: Vec<usize>,
         fen: Fenwick,
         hits: Vec<u64>,
+        deg: Vec<usize>,
+        wt: Vec<T>,
     }
     let cmp = |a: &T, b: &T| a.partial_cmp(b).unwrap_or(std::cmp::Ordering::Equal);
     per_list(
@@ -130,6 +132,8 @@ fn weighted_counts<T: Weight>(
             ranks: Vec::new(),
             fen: Fenwick::with_len(0),
             hits: Vec::new(),
+            deg: Vec::new(),
+            wt: Vec::new(),
         },
         |j, acc, s| {
             let (a0, a1) = (ptr[j], ptr[j + 1]);
@@ -151,16 +155,29 @@ fn weighted_counts<T: Weight>(
             }
             let e = &s.entries;
             if !long {
+                // Pair loops over separate degree and weight arrays with
+                // the conditions as 0/1 counts: no branch on the data, so
+                // the compiler vectorises them.
+                s.deg.clear();
+                s.deg.extend(e.iter().map(|x| x.0));
+                s.wt.clear();
+                s.wt.extend(e.iter().map(|x| x.2));
+                let (dg, wt) = (&s.deg[..], &s.wt[..]);
                 for b in 0..k {
-                    let (db, _, wb) = e[b];
-                    for a in 0..b {
-                        let (da, _, wa) = e[a];
-                        if da > db && wa > wb {
-                            s.hits[b] += 1;
-                        } else if order == Order::Sorted && db > da && wb > wa {
-                            s.hits[a] += 1;
+                    let (db, wb) = (dg[b], wt[b]);
+                    let (dl, wl) = (&dg[..b], &wt[..b]);
+                    let mut c = 0u64;
+                    if order == Order::Sorted {
+                        for ((&da, &wa), h) in dl.iter().zip(wl).zip(&mut s.hits[..b]) {
+                            c += u64::from((da > db) & (wa > wb));
+                            *h += u64::from((db > da) & (wb > wa));
+                        }
+                    } else {
+                        for (&da, &wa) in dl.iter().zip(wl) {
+                            c += u64::from((da > db) & (wa > wb));
                         }
                     }
+                    s.hits[b] += c;
                 }
             } else {
                 // Sorted order, long list (members by decreasing degree):
