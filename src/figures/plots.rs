@@ -252,7 +252,8 @@ fn marker(shape: usize, cx: f64, cy: f64, r: f64, colour: &str) -> PathEl {
 /// horizontal line at the nominal level `alpha` (class `alpha-line`), the
 /// rate axis fixed at 0-1, the level named in the legend. Series differ
 /// in colour and marker shape and are set a few px apart sideways (5 px
-/// between neighbours) so their whiskers stay visible.
+/// between neighbours, 30 px in all at most) so their whiskers stay
+/// visible.
 ///
 /// Cost: linear in the number of points.
 ///
@@ -335,7 +336,13 @@ pub fn rejection_figure(
     );
     // Series are dodged sideways by a few px so that whiskers at the same
     // strength do not hide each other.
-    let dodge = |k: usize| (k as f64 - 0.5 * (series.len() as f64 - 1.0)) * 5.0;
+    // At most 30 px from the first to the last series.
+    let step = if series.len() > 1 {
+        (30.0 / (series.len() as f64 - 1.0)).min(5.0)
+    } else {
+        0.0
+    };
+    let dodge = |k: usize| (k as f64 - 0.5 * (series.len() as f64 - 1.0)) * step;
     for (k, s) in series.iter().enumerate() {
         let colour = SERIES[k % SERIES.len()];
         let sx = Scale {
