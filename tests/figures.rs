@@ -449,3 +449,265 @@ fn command_line_writes_one_figure_per_file() {
     assert_eq!(f.matches("class=\"observed\"").count(), 4); // 2 models x 2 indices
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+/// A fresh scratch folder for one test.
+fn scratch(name: &str) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("nidus-{name}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// The numbers of attribute `name` over every element of class `class`.
+fn attrs(svg: &str, class: &str, name: &str) -> Vec<f64> {
+    let marker = format!("class=\"{class}\"");
+    let mut out = Vec::new();
+    let mut from = 0;
+    while let Some(k) = svg[from..].find(&marker) {
+        let at = from + k;
+        out.push(attr(&svg[at.saturating_sub(400)..], &marker, name));
+        from = at + marker.len();
+    }
+    out
+}
+
+#[test]
+fn species_command_draws_one_bar_per_species_from_a_zero_line() {
+    let dir = scratch("species-fig");
+    let file = dir.join("w.csv");
+    // Invented 5 x 6 presence table with one species out of pattern (r5).
+    std::fs::write(
+        &file,
+        "x,c1,c2,c3,c4,c5,c6\nr1,1,1,1,1,1,0\nr2,1,1,1,0,0,0\nr3,1,1,0,0,0,0\nr4,1,0,0,0,0,0\nr5,0,0,0,1,1,1\n",
+    )
+    .unwrap();
+    let fig = dir.join("sp.svg");
+    let args = [
+        "species",
+        file.to_str().unwrap(),
+        "--seed",
+        "5",
+        "--draws",
+        "99",
+        "--format",
+        "json",
+    ];
+    let out = nidus(&[&args[..], &["--svg", fig.to_str().unwrap()]].concat());
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let contributions: Vec<f64> = String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .filter_map(|l| {
+            let v: serde_json::Value = serde_json::from_str(l).unwrap();
+            v["contribution"].as_f64()
+        })
+        .collect();
+    assert!(contributions.len() >= 10, "{contributions:?}");
+    let svg = std::fs::read_to_string(&fig).unwrap();
+    // One bar per species with a defined contribution; the negative ones in
+    // the accent colour, the others not.
+    assert_eq!(svg.matches("class=\"bar\"").count(), contributions.len());
+    let negative = contributions.iter().filter(|&&c| c < 0.0).count();
+    assert!(
+        negative >= 1,
+        "r5 should work against nestedness: {contributions:?}"
+    );
+    assert_eq!(
+        svg.matches(&format!("fill=\"{}\"", style::ACCENT)).count(),
+        negative
+    );
+    // Every bar starts (positive) or ends (negative) at the zero line.
+    let zx = attr(&svg, "zero-line", "x1");
+    let xs = attrs(&svg, "bar", "x");
+    let ws = attrs(&svg, "bar", "width");
+    for (x, w) in xs.iter().zip(&ws) {
+        assert!(
+            (x - zx).abs() < 0.02 || (x + w - zx).abs() < 0.02,
+            "bar {x}+{w} off the zero line at {zx}"
+        );
+    }
+    // And the line is drawn there.
+    let pix = render(&svg);
+    let y = attr(&svg, "zero-line", "y2") - 1.0;
+    assert!(
+        (-1..=1).any(|d| rgb(&pix, zx + d as f64, y).iter().all(|&v| v < 120)),
+        "no zero line at x = {zx}"
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn effort_command_draws_a_band_per_quantity() {
+    let dir = scratch("effort-fig");
+    let file = dir.join("v.csv");
+    std::fs::write(
+        &file,
+        "x,a,b,c,d\nr1,9,4,3,1\nr2,5,2,0,1\nr3,3,1,1,0\nr4,2,0,0,0\n",
+    )
+    .unwrap();
+    let fig = dir.join("ef.svg");
+    let out = nidus(&[
+        "effort",
+        file.to_str().unwrap(),
+        "--seed",
+        "2",
+        "--draws",
+        "30",
+        "--index",
+        "nodf,wnodf",
+        "--svg",
+        fig.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&fig).unwrap();
+    // links, NODF, WNODF: three panels, each with its band and mean line.
+    assert_eq!(svg.matches("class=\"band\"").count(), 3);
+    assert_eq!(svg.matches("class=\"mean-line\"").count(), 3);
+    for id in ["band-1", "band-2", "band-3"] {
+        assert!(svg.contains(&format!("id=\"{id}\"")), "no {id}");
+    }
+    for heading in ["links observed", "NODF", "WNODF", "visits in the subsample"] {
+        assert!(svg.contains(heading), "no {heading}");
+    }
+    // The bands are painted: pixels of the band colour in the bitmap.
+    let band = hex(&style::ramp(0.15));
+    let pix = render(&svg);
+    let painted = (0..pix.height())
+        .flat_map(|y| (0..pix.width()).map(move |x| (x, y)))
+        .filter(|&(x, y)| close(rgb(&pix, x as f64, y as f64), band, 6))
+        .count();
+    assert!(painted > 500, "band pixels: {painted}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn assess_command_draws_rates_with_the_alpha_line_and_merge_draws_the_same() {
+    let dir = scratch("assess-fig");
+    let fig = dir.join("as.svg");
+    let common = [
+        "assess",
+        "--rows",
+        "8",
+        "--cols",
+        "9",
+        "--fill",
+        "0.35",
+        "--networks",
+        "12",
+        "--draws",
+        "19",
+        "--seed",
+        "4",
+        "--alpha",
+        "0.1",
+        "--model",
+        "equiprobable,fixed-both",
+        "--scenario",
+        "random,degrees,nested:0,nested:0.5,nested:1",
+    ];
+    let out = nidus(&[&common[..], &["--svg", fig.to_str().unwrap()]].concat());
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let svg = std::fs::read_to_string(&fig).unwrap();
+    // 1 index x 2 models x 3 nested strengths.
+    assert_eq!(svg.matches("class=\"whisker\"").count(), 6);
+    assert_eq!(svg.matches("class=\"series\"").count(), 2);
+    assert!(svg.contains("type I: random") && svg.contains("degrees"));
+    // The rate axis runs 0 (bottom) to 1 (top) along the y axis line; the
+    // alpha line sits at 0.1 of it, within half a pixel.
+    let at = svg.find("axis y-axis").unwrap();
+    let (bottom, top) = (
+        attr(&svg[at..], "line stroke", "y1"),
+        attr(&svg[at..], "line stroke", "y2"),
+    );
+    let y = attr(&svg, "alpha-line", "y1");
+    let want = bottom - 0.1 * (bottom - top);
+    assert!((y - want).abs() < 0.5, "alpha line at {y}, want {want}");
+    let x = attr(&svg, "alpha-line", "x1") + 2.0;
+    let pix = render(&svg);
+    assert!(
+        (-1..=1).any(|d| rgb(&pix, x, y + d as f64).iter().all(|&v| v < 180)),
+        "no alpha line drawn at y = {y}"
+    );
+
+    // Shards refuse --svg; their merge draws the very same figure.
+    let mut parts = Vec::new();
+    for i in 1..=2 {
+        let part = dir.join(format!("part{i}.txt"));
+        let shard = format!("{i}/2");
+        let out = nidus(
+            &[
+                &common[..],
+                &["--shard", &shard, "--save-draws", part.to_str().unwrap()],
+            ]
+            .concat(),
+        );
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        parts.push(part);
+    }
+    let refused = nidus(
+        &[
+            &common[..],
+            &[
+                "--shard",
+                "1/2",
+                "--save-draws",
+                dir.join("x.txt").to_str().unwrap(),
+                "--svg",
+                fig.to_str().unwrap(),
+            ],
+        ]
+        .concat(),
+    );
+    assert_eq!(refused.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&refused.stderr).contains("nidus merge"));
+    let merged_fig = dir.join("merged.svg");
+    let out = nidus(&[
+        "merge",
+        parts[0].to_str().unwrap(),
+        parts[1].to_str().unwrap(),
+        "--svg",
+        merged_fig.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(std::fs::read_to_string(&merged_fig).unwrap(), svg);
+
+    // Without a nested:S scenario there is no strength axis: refused before
+    // any network is drawn.
+    let out = nidus(&[
+        "assess",
+        "--rows",
+        "5",
+        "--cols",
+        "5",
+        "--fill",
+        "0.4",
+        "--seed",
+        "1",
+        "--scenario",
+        "random",
+        "--svg",
+        fig.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("nested:S"));
+    std::fs::remove_dir_all(&dir).unwrap();
+}

@@ -10,7 +10,7 @@ use std::process::ExitCode;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use nidus::analyses::assess::{
-    run_assess, AssessConfig, AssessRun, RateRow, Scenario, Shape, LOW_POWER,
+    power_curve, run_assess, AssessConfig, AssessRun, RateRow, Scenario, Shape, LOW_POWER,
 };
 use nidus::index::IndexKind;
 use nidus::null::{NullModel, Shard};
@@ -91,6 +91,10 @@ pub struct AssessArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Write a figure (rejection rate against planted nestedness per index and model, with
+    /// alpha and 95 % Wilson whiskers) as SVG to PATH; needs a nested:S scenario.
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 const COLUMNS: &[&str] = &[
@@ -298,6 +302,15 @@ pub fn run(args: AssessArgs) -> nidus::Result<ExitCode> {
                 .into(),
         ));
     }
+    if args.svg.is_some() {
+        if args.shard.is_some() {
+            return Err(Error::InvalidArgument(
+                "--svg needs the rates of every network: a shard holds only part of them; draw the figure with `nidus merge PARTS... --svg PATH`"
+                    .into(),
+            ));
+        }
+        check_figure_scenarios(&args.scenario.0)?;
+    }
     let shape = match (&args.like, args.rows, args.cols, args.fill) {
         (Some(file), ..) => {
             let net = read_input(file, &args.input.read_options())?.network;
@@ -351,6 +364,71 @@ pub fn run(args: AssessArgs) -> nidus::Result<ExitCode> {
         let text = render(args.format, &run)?;
         let stdout = io::stdout();
         emit(&mut stdout.lock(), &text);
+        if let Some(path) = &args.svg {
+            figure(&run, path)?;
+        }
     }
     Ok(ExitCode::SUCCESS)
+}
+
+/// The rejection figure draws rates against the strength of `nested:S`.
+pub fn check_figure_scenarios(scenarios: &[Scenario]) -> nidus::Result<()> {
+    if scenarios.iter().any(|s| s.strength().is_some()) {
+        Ok(())
+    } else {
+        Err(Error::InvalidArgument(
+            "--svg draws the rejection rate against the planted strength S: add a nested:S scenario to --scenario (for example nested:0,nested:0.5,nested:1)".into(),
+        ))
+    }
+}
+
+/// `--svg` (of `assess` and of `merge` with assessment parts): one series
+/// per index and model along the `nested:S` scenarios; the type I rates of
+/// `random` and `degrees` are written in the series' legend entry.
+pub fn figure(run: &AssessRun, path: &std::path::Path) -> nidus::Result<()> {
+    use nidus::figures::{rejection_figure, RejectionPoint, RejectionSeries};
+    check_figure_scenarios(&run.settings.scenarios)?;
+    let rows = run.summarise()?;
+    let s = &run.settings;
+    let mut series = Vec::new();
+    for &index in &s.indices {
+        for &model in &s.models {
+            let points = power_curve(&rows, index, model)
+                .into_iter()
+                .map(|p| RejectionPoint {
+                    strength: p.strength,
+                    rate: p.rate,
+                    low: p.low,
+                    high: p.high,
+                })
+                .collect();
+            let mut name = format!("{} against {}", index.name(), model.name());
+            let others: Vec<String> = rows
+                .iter()
+                .filter(|r| r.index == index && r.model == model && r.scenario.strength().is_none())
+                .map(|r| format!("{} {:.2}", r.scenario.name(), r.rate))
+                .collect();
+            if !others.is_empty() {
+                name += &format!(" (type I: {})", others.join(", "));
+            }
+            series.push(RejectionSeries { name, points });
+        }
+    }
+    let shape = match &s.like {
+        Some(f) => format!("networks shaped like {f}"),
+        None => format!("{} x {} networks, fill {}", s.rows, s.cols, s.fill),
+    };
+    let title = format!(
+        "Rejection rates: {shape}, {} per scenario, {} null draws each; whiskers: 95 % Wilson interval",
+        s.networks, s.draws
+    );
+    let fig = rejection_figure(
+        &series,
+        s.alpha,
+        "planted nestedness S (nested:S; 0 = random)",
+        &title,
+    )?;
+    fig.save(path)?;
+    eprintln!("nidus: figure written to {}", path.display());
+    Ok(())
 }

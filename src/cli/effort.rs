@@ -62,6 +62,10 @@ pub struct EffortArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Write a figure (links and each index against visits, with the 2.5-97.5 % band of
+    /// the subsamples) as SVG to PATH.
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 /// Significance level of the per-depth null tests.
@@ -113,7 +117,64 @@ pub fn run(args: EffortArgs) -> nidus::Result<ExitCode> {
         Format::Text => text_report(&shown, &result, args.order),
     };
     emit(&mut io::stdout().lock(), &text);
+    if let Some(path) = &args.svg {
+        figure(path, &shown, &result)?;
+    }
     Ok(ExitCode::SUCCESS)
+}
+
+/// `--svg`: a panel for links and one per index, each against visits with
+/// the 2.5-97.5 % band; a quantity undefined at every depth is left out
+/// with a note.
+fn figure(path: &std::path::Path, shown: &str, r: &EffortResult) -> nidus::Result<()> {
+    use nidus::figures::{effort_panels_figure, EffortPanel, EffortPoint};
+    let mut keys = vec![("links".to_string(), "links observed".to_string())];
+    for &k in &r.indices {
+        let name = match k.name() {
+            "nodf" => "NODF".to_string(),
+            "wnodf" => "WNODF".to_string(),
+            "temperature" => "temperature T (packed)".to_string(),
+            "spectral" => "spectral radius".to_string(),
+            "spectral-weighted" => "spectral radius of the visits".to_string(),
+            other => other.to_string(),
+        };
+        keys.push((EffortResult::key(k), name));
+    }
+    let mut panels = Vec::new();
+    for (key, name) in keys {
+        let Some(c) = r.curve(&key) else { continue };
+        if c.x.is_empty() {
+            eprintln!("nidus: {shown}: {name} is undefined at every depth; left out of the figure");
+            continue;
+        }
+        let points = (0..c.x.len())
+            .map(|i| EffortPoint {
+                x: c.x[i],
+                mean: c.mean[i],
+                low: c.low[i],
+                high: c.high[i],
+            })
+            .collect();
+        panels.push(EffortPanel { name, points });
+    }
+    let fig = effort_panels_figure(
+        &panels,
+        "visits in the subsample",
+        &format!(
+            "2.5-97.5 % of {} subsamples per depth (seed {}){}",
+            r.draws,
+            r.seed,
+            if r.depths.last().is_some_and(|d| d.depth == r.visits) {
+                format!("; the last point is all {} visits", r.visits)
+            } else {
+                String::new()
+            }
+        ),
+        &format!("{shown}: indices against sampling effort"),
+    )?;
+    fig.save(path)?;
+    eprintln!("nidus: figure written to {}", path.display());
+    Ok(())
 }
 
 /// The quantities of a depth in output order: key and band.

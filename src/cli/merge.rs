@@ -23,6 +23,10 @@ pub struct MergeArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Assessment parts only: write the rejection-rate figure of the merged assessment
+    /// (as `nidus assess --svg`) to PATH.
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
@@ -35,6 +39,7 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
         texts.push((p, text));
     }
     let assess = texts.iter().filter(|(_, t)| is_part(t)).count();
+    let mut assessment = None;
     let text = if assess > 0 {
         if assess < texts.len() {
             let other = texts.iter().find(|(_, t)| !is_part(t)).expect("counted");
@@ -47,8 +52,19 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
         for (p, t) in &texts {
             parts.push(parse_part(t, p)?);
         }
-        super::assess::render(args.format, &merge_parts(parts)?)?
+        let merged = merge_parts(parts)?;
+        if args.svg.is_some() {
+            super::assess::check_figure_scenarios(&merged.settings.scenarios)?;
+        }
+        let text = super::assess::render(args.format, &merged)?;
+        assessment = Some(merged);
+        text
     } else {
+        if args.svg.is_some() {
+            return Err(Error::InvalidArgument(
+                "--svg of merge draws assessment figures; for null distributions run `nidus null --svg` without --shard".into(),
+            ));
+        }
         let mut parts = Vec::new();
         for (p, t) in &texts {
             parts.extend(parse_draws(t, p)?);
@@ -67,5 +83,8 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
     };
     let stdout = io::stdout();
     emit(&mut stdout.lock(), &text);
+    if let (Some(path), Some(run)) = (&args.svg, &assessment) {
+        super::assess::figure(run, path)?;
+    }
     Ok(ExitCode::SUCCESS)
 }

@@ -47,6 +47,10 @@ pub struct SpeciesArgs {
     /// line) or csv (one row per species).
     #[arg(long, value_enum, default_value_t = Format::Text)]
     format: Format,
+    /// Write a figure of the contributions (species ranked, bars from a zero line) as SVG
+    /// to PATH.
+    #[arg(long, value_name = "PATH")]
+    svg: Option<PathBuf>,
 }
 
 const CSV_COLUMNS: &[&str] = &[
@@ -95,7 +99,47 @@ pub fn run(args: SpeciesArgs) -> nidus::Result<ExitCode> {
         }
     };
     emit(&mut io::stdout().lock(), &text);
+    if let Some(path) = &args.svg {
+        figure(path, &file, &a)?;
+    }
     Ok(ExitCode::SUCCESS)
+}
+
+/// `--svg`: the defined contributions, ranked, each label marked with its
+/// side; species with an undefined contribution are counted in the title.
+fn figure(path: &std::path::Path, file: &str, a: &SpeciesAnalysis) -> nidus::Result<()> {
+    let shown: Vec<&SpeciesRecord> = a
+        .species
+        .iter()
+        .filter(|s| s.contribution.is_some())
+        .collect();
+    if shown.is_empty() {
+        return Err(nidus::Error::InvalidArgument(format!(
+            "--svg: {file}: no species has a defined contribution (every re-draw gave the same NODF), so there is nothing to draw"
+        )));
+    }
+    let labels: Vec<String> = shown
+        .iter()
+        .map(|s| format!("{} ({})", s.label, s.side.name()))
+        .collect();
+    let values: Vec<f64> = shown.iter().filter_map(|s| s.contribution).collect();
+    let left_out = a.species.len() - shown.len();
+    let mut title = format!(
+        "{file}: contribution of each species to NODF ({} re-draws, {})",
+        a.options.draws, a.options.model
+    );
+    if left_out > 0 {
+        title += &format!("; {left_out} undefined, not drawn");
+    }
+    let fig = nidus::figures::contributions_figure(
+        &labels,
+        &values,
+        "contribution z (right of 0: more nested than its re-draws)",
+        &title,
+    )?;
+    fig.save(path)?;
+    eprintln!("nidus: figure written to {}", path.display());
+    Ok(())
 }
 
 fn json_line(file: &str, s: &SpeciesRecord) -> String {

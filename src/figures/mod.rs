@@ -12,7 +12,8 @@
 //!   perfect nestedness and the unexpected cells marked.
 //! * [`null_figure`]: one panel per index and null model, the null values as
 //!   a histogram with the observed value, the central 95 % and z and p.
-//! * [`contributions_figure`], [`rejection_figure`], [`effort_figure`]:
+//! * [`contributions_figure`], [`rejection_figure`], [`effort_figure`],
+//!   [`effort_panels_figure`]:
 //!   figures for per-species contributions, rejection rates of a test and
 //!   index-versus-sampling-effort curves, built from plain numbers.
 //!
@@ -47,8 +48,8 @@ pub mod style;
 pub use matrix::{matrix_figure, MatrixFigureOptions, DENSITY_LINKS, DENSITY_SIDE};
 pub use null::{null_figure, NullPanel};
 pub use plots::{
-    contributions_figure, effort_figure, rejection_figure, EffortPoint, RejectionPoint,
-    RejectionSeries,
+    contributions_figure, effort_figure, effort_panels_figure, rejection_figure, EffortPanel,
+    EffortPoint, RejectionPoint, RejectionSeries,
 };
 
 /// A finished figure: an SVG document and its size in px.

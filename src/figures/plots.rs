@@ -31,18 +31,22 @@ fn check_finite(what: &str, values: impl IntoIterator<Item = f64>) -> Result<()>
     Ok(())
 }
 
-fn title_group(title: &str) -> (Group, f64) {
+/// The bold title, broken into lines no wider than `width` px, and the top
+/// of the plot below it.
+fn title_group(title: &str, width: f64) -> (Group, f64) {
     if title.is_empty() {
         return (Group::new(), 14.0);
     }
-    (
-        Group::new().add(
-            text(title, 16.0, 22.0, 15.0, "start")
+    let mut g = Group::new().set("class", "title");
+    let lines = wrap(title, width, 15.0);
+    for (k, l) in lines.iter().enumerate() {
+        g = g.add(
+            text(l, 16.0, 22.0 + 19.0 * k as f64, 15.0, "start")
                 .set("font-weight", "bold")
                 .set("fill", INK),
-        ),
-        40.0,
-    )
+        );
+    }
+    (g, 40.0 + 19.0 * (lines.len() as f64 - 1.0))
 }
 
 /// Bars of per-species contributions, largest first, with a line at zero:
@@ -104,13 +108,13 @@ pub fn contributions_figure(
     } else {
         TEXT_PX + 14.0
     };
-    let (mut g, top) = title_group(title);
     let (lo, hi) = values
         .iter()
         .fold((0.0f64, 0.0f64), |(a, b), &v| (a.min(v), b.max(v)));
     let (lo, hi) = padded(lo, hi, 0.05);
     let left = 16.0 + label_w;
     let plot_w = 420.0;
+    let (mut g, top) = title_group(title, left + plot_w - 16.0);
     let sx = Scale {
         lo,
         hi,
@@ -246,7 +250,10 @@ fn marker(shape: usize, cx: f64, cy: f64, r: f64, colour: &str) -> PathEl {
 /// Rejection rate against effect strength: one line per series with a
 /// marker at each point and a whisker from `low` to `high`, a dashed
 /// horizontal line at the nominal level `alpha` (class `alpha-line`), the
-/// rate axis fixed at 0-1. Series differ in colour and marker shape.
+/// rate axis fixed at 0-1, the level named in the legend. Series differ
+/// in colour and marker shape and are set a few px apart sideways (5 px
+/// between neighbours, 30 px in all at most) so their whiskers stay
+/// visible.
 ///
 /// Cost: linear in the number of points.
 ///
@@ -296,7 +303,7 @@ pub fn rejection_figure(
             }
         }
     }
-    let (mut g, top) = title_group(title);
+    let (mut g, top) = title_group(title, 640.0);
     let (xmin, xmax) = series
         .iter()
         .flat_map(|s| s.points.iter().map(|p| p.strength))
@@ -327,18 +334,22 @@ pub fn rejection_figure(
             .set("stroke-dasharray", "5 4")
             .set("class", "alpha-line"),
     );
-    g = g.add(
-        text(
-            &format!("α = {}", num(alpha, 3)),
-            left + pw - 4.0,
-            sy.at(alpha) - 5.0,
-            style::TICK_PX,
-            "end",
-        )
-        .set("fill", INK),
-    );
+    // Series are dodged sideways by a few px so that whiskers at the same
+    // strength do not hide each other.
+    // At most 30 px from the first to the last series.
+    let step = if series.len() > 1 {
+        (30.0 / (series.len() as f64 - 1.0)).min(5.0)
+    } else {
+        0.0
+    };
+    let dodge = |k: usize| (k as f64 - 0.5 * (series.len() as f64 - 1.0)) * step;
     for (k, s) in series.iter().enumerate() {
         let colour = SERIES[k % SERIES.len()];
+        let sx = Scale {
+            p0: sx.p0 + dodge(k),
+            p1: sx.p1 + dodge(k),
+            ..sx
+        };
         let mut pts = s.points.clone();
         pts.sort_by(|a, b| a.strength.total_cmp(&b.strength));
         let mut sg = Group::new().set("class", "series");
@@ -410,6 +421,11 @@ pub fn rejection_figure(
         }
         ly += 6.0;
     }
+    lg = lg.add(line(lx, ly, lx + 22.0, ly, INK, 1.2).set("stroke-dasharray", "5 4"));
+    let alpha_name = format!("nominal level α = {}", num(alpha, 3));
+    lg = lg.add(text(&alpha_name, lx + 30.0, ly + 4.0, TEXT_PX, "start"));
+    legend_w = legend_w.max(text_width(&alpha_name, TEXT_PX));
+    ly += TEXT_PX * 1.3 + 6.0;
     lg = lg.add(text(
         "whiskers: interval of the rate",
         lx,
@@ -465,6 +481,36 @@ pub fn effort_figure(
     band_name: &str,
     title: &str,
 ) -> Result<Figure> {
+    let (mut g, top) = title_group(title, 500.0);
+    let (panel, right, bottom) =
+        effort_panel(points, x_name, y_name, 16.0, top, 440.0, 300.0, None)?;
+    g = g.add(panel);
+    let width = right + 24.0;
+    let mut y = bottom + 58.0;
+    let note = format!("Line: mean. Shaded band: {band_name}.");
+    for l in wrap(&note, width - 32.0, style::TICK_PX + 1.0) {
+        g = g.add(text(&l, 16.0, y, style::TICK_PX + 1.0, "start").set("fill", INK));
+        y += 15.0;
+    }
+    Ok(Figure::new(width, y, g))
+}
+
+/// One panel of an index against effort, its plot area `pw x ph` px with
+/// the y axis title's left edge at `x0` and the plot's top at `top`: the
+/// band (id `band`, or class `band` when `band_id` names it otherwise),
+/// the mean line and points, both axes. Returns the group and the right
+/// and bottom edges of the plot area.
+#[allow(clippy::too_many_arguments)]
+fn effort_panel(
+    points: &[EffortPoint],
+    x_name: &str,
+    y_name: &str,
+    x0: f64,
+    top: f64,
+    pw: f64,
+    ph: f64,
+    band_id: Option<&str>,
+) -> Result<(Group, f64, f64)> {
     if points.is_empty() {
         return Err(Error::InvalidArgument(
             "an effort figure needs at least one point".into(),
@@ -485,7 +531,7 @@ pub fn effort_figure(
     }
     let mut pts = points.to_vec();
     pts.sort_by(|a, b| a.x.total_cmp(&b.x));
-    let (mut g, top) = title_group(title);
+    let mut g = Group::new().set("class", "panel");
     let (xlo, xhi) = padded(pts[0].x, pts[pts.len() - 1].x, 0.03);
     let (ymin, ymax) = pts
         .iter()
@@ -494,8 +540,7 @@ pub fn effort_figure(
         });
     let (ylo, yhi) = padded(ymin, ymax, 0.06);
     let yt = ticks(ylo, yhi, 5);
-    let left = 16.0 + TEXT_PX + 10.0 + y_tick_width(&yt) + 10.0;
-    let (pw, ph) = (440.0, 300.0);
+    let left = x0 + TEXT_PX + 10.0 + y_tick_width(&yt) + 10.0;
     let sx = Scale {
         lo: xlo,
         hi: xhi,
@@ -526,7 +571,8 @@ pub fn effort_figure(
     band += "Z";
     g = g.add(
         PathEl::new()
-            .set("id", "band")
+            .set("id", band_id.unwrap_or("band"))
+            .set("class", "band")
             .set("d", band)
             .set("fill", style::ramp(0.15))
             .set("stroke", "none"),
@@ -544,9 +590,12 @@ pub fn effort_figure(
             )
         })
         .collect();
+    let mut mean_line = PathEl::new().set("class", "mean-line");
+    if band_id.is_none() {
+        mean_line = mean_line.set("id", "mean-line");
+    }
     g = g.add(
-        PathEl::new()
-            .set("id", "mean-line")
+        mean_line
             .set("d", d)
             .set("fill", "none")
             .set("stroke", &*colour)
@@ -560,9 +609,92 @@ pub fn effort_figure(
     let xt = ticks(xlo, xhi, 5);
     g = g.add(x_axis(sx, top + ph, &xt, x_name));
     g = g.add(y_axis(sy, left, &yt, y_name, y_tick_width(&yt) + 16.0));
-    let width = left + pw + 24.0;
-    let mut y = top + ph + 58.0;
-    let note = format!("Line: mean. Shaded band: {band_name}.");
+    Ok((g, left + pw, top + ph))
+}
+
+/// A named curve of an index against effort, one panel of
+/// [`effort_panels_figure`].
+#[derive(Clone, Debug, PartialEq)]
+pub struct EffortPanel {
+    /// What the curve shows; the panel's heading and y axis title (for
+    /// example "NODF" or "links observed").
+    pub name: String,
+    /// Points, in any order (drawn by increasing effort).
+    pub points: Vec<EffortPoint>,
+}
+
+/// Several quantities against sampling effort, one panel each (two panels
+/// a row), on a shared effort axis title: in every panel the band from
+/// `low` to `high` shaded (class `band`, ids `band-1`, `band-2`, ... in
+/// panel order), the mean as a line with points. Each panel has its own
+/// value axis, since the quantities differ in units. `band_name` says what
+/// the band is; it is written under the panels.
+///
+/// Cost: linear in the number of points.
+///
+/// Errors: no panel, a panel without points, a value that is not finite,
+/// `low > mean` or `mean > high`.
+///
+/// # Example
+/// ```
+/// use nidus::figures::{effort_panels_figure, EffortPanel, EffortPoint};
+/// let curve = |scale: f64| (1..=5).map(|k| {
+///     let m = scale * (1.0 - (-(k as f64) / 2.0).exp());
+///     EffortPoint { x: 100.0 * k as f64, mean: m, low: 0.9 * m, high: 1.1 * m }
+/// }).collect::<Vec<_>>();
+/// let panels = [EffortPanel { name: "links".into(), points: curve(80.0) },
+///               EffortPanel { name: "NODF".into(), points: curve(40.0) }];
+/// let svg = effort_panels_figure(&panels, "visits sampled", "2.5-97.5 %", "").unwrap().to_svg();
+/// assert_eq!(svg.matches("class=\"band\"").count(), 2);
+/// ```
+pub fn effort_panels_figure(
+    panels: &[EffortPanel],
+    x_name: &str,
+    band_name: &str,
+    title: &str,
+) -> Result<Figure> {
+    if panels.is_empty() {
+        return Err(Error::InvalidArgument(
+            "an effort figure needs at least one panel".into(),
+        ));
+    }
+    let (mut g, top) = title_group(title, if panels.len() == 1 { 380.0 } else { 760.0 });
+    let (pw, ph) = (300.0, 190.0);
+    let heading = 24.0;
+    let below = 52.0;
+    let mut drawn = Vec::with_capacity(panels.len());
+    for (k, p) in panels.iter().enumerate() {
+        let id = format!("band-{}", k + 1);
+        let (body, right, _) =
+            effort_panel(&p.points, x_name, &p.name, 0.0, heading, pw, ph, Some(&id)).map_err(
+                |e| match e {
+                    Error::InvalidArgument(m) => Error::InvalidArgument(format!("{}: {m}", p.name)),
+                    e => e,
+                },
+            )?;
+        let left = right - pw;
+        let body = body.add(
+            text(&p.name, left, heading - 8.0, TEXT_PX + 1.0, "start")
+                .set("font-weight", "bold")
+                .set("fill", INK),
+        );
+        drawn.push((body, right));
+    }
+    let cols = if panels.len() == 1 { 1 } else { 2 };
+    let cell_w = drawn.iter().map(|d| d.1).fold(0.0, f64::max) + 28.0;
+    let cell_h = heading + ph + below;
+    for (k, (body, right)) in drawn.into_iter().enumerate() {
+        let (c, r) = (k % cols, k / cols);
+        // Right-align each panel's plot area in its cell, so the plots of
+        // a column line up whatever the width of their tick labels.
+        let dx = 16.0 + c as f64 * cell_w + (cell_w - 28.0 - right);
+        let dy = top + r as f64 * cell_h;
+        g = g.add(body.set("transform", format!("translate({} {})", px(dx), px(dy))));
+    }
+    let rows = panels.len().div_ceil(cols);
+    let width = 16.0 + cols as f64 * cell_w;
+    let mut y = top + rows as f64 * cell_h + 8.0;
+    let note = format!("Lines: mean. Shaded bands: {band_name}.");
     for l in wrap(&note, width - 32.0, style::TICK_PX + 1.0) {
         g = g.add(text(&l, 16.0, y, style::TICK_PX + 1.0, "start").set("fill", INK));
         y += 15.0;

@@ -166,7 +166,9 @@ pub fn ticks(lo: f64, hi: f64, target: usize) -> Vec<f64> {
     // The step is f x 10^e with f in {1, 2, 5, 10}; a tick k f 10^e is
     // computed as an integer times or divided by a power of ten, so it is
     // the correctly rounded decimal (0.6, not 0.6000000000000001).
-    let e = step.log10().round() as i32;
+    // floor, not round: a step of 5 x 10^e has log10 of e + 0.7, which
+    // rounds up to e + 1 and would turn the step into 10^(e + 1).
+    let e = step.log10().floor() as i32;
     let f = (step / 10f64.powi(e)).round();
     let at = |k: f64| {
         if e >= 0 {
@@ -412,6 +414,13 @@ mod tests {
         assert_eq!(ticks(0.0, 1.0, 5), vec![0.0, 0.2, 0.4, 0.6, 0.8, 1.0]);
         assert_eq!(ticks(3.0, 97.0, 4), vec![20.0, 40.0, 60.0, 80.0]);
         assert_eq!(ticks(-0.3, 0.3, 3), vec![-0.2, 0.0, 0.2]);
+        // Steps of 5 x 10^e (the 1-2-5 rule, Heckbert 1990) stay 5 x 10^e
+        // and every tick lies in the range.
+        assert_eq!(ticks(0.0, 2.2, 5), vec![0.0, 0.5, 1.0, 1.5, 2.0]);
+        assert_eq!(
+            ticks(230.0, 3250.0, 6),
+            vec![500.0, 1000.0, 1500.0, 2000.0, 2500.0, 3000.0]
+        );
     }
 
     #[test]
