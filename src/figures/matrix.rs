@@ -643,14 +643,12 @@ fn legend_cross(cx: f64, cy: f64, r: f64) -> PathEl {
 /// sampled as the superellipse `1-x = cos(θ)^(2/p)`, `1-y = sin(θ)^(2/p)`.
 fn isocline(p: f64, x0: f64, y0: f64, w: f64, h: f64) -> Group {
     let k = 240;
-    let mut d = String::new();
-    for s in 0..=k {
+    let d = style::polyline((0..=k).map(|s| {
         let th = std::f64::consts::FRAC_PI_2 * s as f64 / k as f64;
         let a = th.cos().max(0.0).powf(2.0 / p);
         let b = th.sin().max(0.0).powf(2.0 / p);
-        let (x, y) = (x0 + (1.0 - a) * w, y0 + (1.0 - b) * h);
-        d += &format!("{}{} {}", if s == 0 { "M" } else { "L" }, px(x), px(y));
-    }
+        (x0 + (1.0 - a) * w, y0 + (1.0 - b) * h)
+    }));
     Group::new()
         .add(
             PathEl::new()

@@ -353,18 +353,7 @@ pub fn rejection_figure(
         let mut pts = s.points.clone();
         pts.sort_by(|a, b| a.strength.total_cmp(&b.strength));
         let mut sg = Group::new().set("class", "series");
-        let d: String = pts
-            .iter()
-            .enumerate()
-            .map(|(i, p)| {
-                format!(
-                    "{}{} {}",
-                    if i == 0 { "M" } else { "L" },
-                    px(sx.at(p.strength)),
-                    px(sy.at(p.rate))
-                )
-            })
-            .collect();
+        let d = style::polyline(pts.iter().map(|p| (sx.at(p.strength), sy.at(p.rate))));
         sg = sg.add(
             PathEl::new()
                 .set("d", d)
@@ -556,18 +545,11 @@ fn effort_panel(
     for &t in &yt {
         g = g.add(line(left, sy.at(t), left + pw, sy.at(t), FAINT, 0.6));
     }
-    let mut band = String::new();
-    for (i, p) in pts.iter().enumerate() {
-        band += &format!(
-            "{}{} {}",
-            if i == 0 { "M" } else { "L" },
-            px(sx.at(p.x)),
-            px(sy.at(p.high))
-        );
-    }
-    for p in pts.iter().rev() {
-        band += &format!("L{} {}", px(sx.at(p.x)), px(sy.at(p.low)));
-    }
+    let mut band = style::polyline(
+        pts.iter()
+            .map(|p| (sx.at(p.x), sy.at(p.high)))
+            .chain(pts.iter().rev().map(|p| (sx.at(p.x), sy.at(p.low)))),
+    );
     band += "Z";
     g = g.add(
         PathEl::new()
@@ -578,18 +560,7 @@ fn effort_panel(
             .set("stroke", "none"),
     );
     let colour = style::ramp(1.0);
-    let d: String = pts
-        .iter()
-        .enumerate()
-        .map(|(i, p)| {
-            format!(
-                "{}{} {}",
-                if i == 0 { "M" } else { "L" },
-                px(sx.at(p.x)),
-                px(sy.at(p.mean))
-            )
-        })
-        .collect();
+    let d = style::polyline(pts.iter().map(|p| (sx.at(p.x), sy.at(p.mean))));
     let mut mean_line = PathEl::new().set("class", "mean-line");
     if band_id.is_none() {
         mean_line = mean_line.set("id", "mean-line");

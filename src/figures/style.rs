@@ -151,6 +151,19 @@ pub fn px(v: f64) -> String {
     }
 }
 
+/// SVG path data of the polyline through `points` (`M x y L x y ...`), each
+/// coordinate written by [`px`]; empty for no points.
+pub fn polyline(points: impl IntoIterator<Item = (f64, f64)>) -> String {
+    let mut d = String::new();
+    for (i, (x, y)) in points.into_iter().enumerate() {
+        d += if i == 0 { "M" } else { "L" };
+        d += &px(x);
+        d.push(' ');
+        d += &px(y);
+    }
+    d
+}
+
 /// Tick positions covering `[lo, hi]` with about `target` intervals, on the
 /// "nice numbers" 1, 2, 5 x 10^k (Heckbert 1990, "Nice numbers for graph
 /// labels", Graphics Gems, pp. 61-63): returns the ticks inside `[lo, hi]`
