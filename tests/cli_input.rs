@@ -3,11 +3,12 @@
 //! `--labels`, `--keep-empty` and `--transpose`. The fixtures are the
 //! hand-made files of `tests/data/shapes/`.
 
-use std::io::Write;
 use std::path::Path;
-use std::process::{Command, Output, Stdio};
+use std::process::Output;
 
 use serde_json::Value;
+
+mod common;
 
 fn shape(name: &str) -> String {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -18,15 +19,7 @@ fn shape(name: &str) -> String {
 }
 
 fn nidus(args: &[&str], stdin: &[u8]) -> Output {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_nidus"))
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("run nidus");
-    child.stdin.take().unwrap().write_all(stdin).unwrap();
-    child.wait_with_output().unwrap()
+    common::nidus_with_stdin(args, stdin)
 }
 
 fn json(out: &Output) -> Value {

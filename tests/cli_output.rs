@@ -3,22 +3,15 @@
 //! cannot be computed, R-friendly CSV booleans, significant digits in text,
 //! and the old option spellings kept as aliases.
 
-use std::io::Write;
 use std::path::PathBuf;
-use std::process::{Command, Output, Stdio};
+use std::process::Output;
 
 use serde_json::Value;
 
+mod common;
+
 fn nidus(args: &[&str], stdin: &[u8]) -> Output {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_nidus"))
-        .args(args)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("run nidus");
-    child.stdin.take().unwrap().write_all(stdin).unwrap();
-    child.wait_with_output().unwrap()
+    common::nidus_with_stdin(args, stdin)
 }
 
 fn ok(out: &Output) -> String {

@@ -2,8 +2,9 @@
 //! straight from ../shared/METHODS.md, and seeded random matrices.
 #![allow(dead_code)]
 
+use std::io::Write;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::{Command, Output, Stdio};
 
 use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
@@ -109,6 +110,19 @@ pub fn nidus(args: &[&str]) -> Output {
         .args(args)
         .output()
         .expect("run nidus")
+}
+
+/// Runs the `nidus` binary with `stdin` as its standard input.
+pub fn nidus_with_stdin(args: &[&str], stdin: &[u8]) -> Output {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_nidus"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("run nidus");
+    child.stdin.take().unwrap().write_all(stdin).unwrap();
+    child.wait_with_output().unwrap()
 }
 
 /// A path in a scratch folder of this test binary and process.
