@@ -49,6 +49,18 @@ pub fn lists_chosen(m: usize, n: usize, links: usize) -> bool {
         || (cells > LISTS_ABOVE_CELLS && (links as u128) * LISTS_BELOW_FILL < cells)
 }
 
+/// The binary view of `net` as row lists (every weight 1): the observed
+/// side of a test whose draws are lists.
+pub(crate) fn binary_lists<T: Weight>(net: &Network<T>) -> Csr<f64> {
+    let c = net.cached_rows();
+    Csr::ones_from_lists(
+        c.nrows(),
+        c.ncols(),
+        c.indptr().to_vec(),
+        c.indices().to_vec(),
+    )
+}
+
 /// A binary model drawing row lists.
 #[derive(Clone, Debug)]
 pub(crate) enum ListSampler {

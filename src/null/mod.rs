@@ -432,6 +432,12 @@ impl NullSampler {
         self.model
     }
 
+    /// True when the draws are row lists ([`NullDraw::BinaryLists`]; see
+    /// [`lists_chosen`]).
+    pub fn draws_lists(&self) -> bool {
+        matches!(self.inner, Inner::Lists(_))
+    }
+
     /// Curveball trades per draw (`fixed-both` only).
     pub fn burn_in(&self) -> Option<usize> {
         match &self.inner {
