@@ -7,8 +7,11 @@
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
 //! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
 //! same with the pre-word-level trade kept in `support/curveball_lists.rs`
-//! (side-by-side comparison); `temperature_packing/200` one packed
-//! temperature with the default starts.
+//! (side-by-side comparison); `null_sparse_fixed_both_nodf/100000` one
+//! `fixed-both` draw (drawn as row lists) plus its NODF of a sparse
+//! 100,000 x 100,000 network with about 10^6 links;
+//! `temperature_packing/200` one packed temperature with the default
+//! starts.
 //!
 //! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
 //! timings of the general-purpose route (numpy / scipy) on the same shapes:
@@ -162,6 +165,23 @@ fn null_and_packing(c: &mut Criterion) {
             k += 1;
             let d = lists.sample(&mut draw_rng(11, k));
             nodf(&d, Order::Sorted).unwrap().total
+        })
+    });
+    g.finish();
+
+    // Row-list draws of a sparse network (10^10 cells, 10^6 links): one
+    // fixed-both draw with its default burn-in (500,000 trades) and NODF.
+    let net = sparse(100_000, 1, 7);
+    let sampler = NullSampler::new(&net, NullModel::FixedBoth, &NullOptions::default()).unwrap();
+    assert!(sampler.draws_lists());
+    let mut g = c.benchmark_group("null_sparse_fixed_both_nodf");
+    g.sample_size(10).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(8));
+    g.throughput(Throughput::Elements(1));
+    g.bench_function(BenchmarkId::from_parameter(100_000), |b| {
+        b.iter(|| {
+            k += 1;
+            nodf(&sampler.draw(11, k), Order::Sorted).unwrap().total
         })
     });
     g.finish();
