@@ -571,3 +571,40 @@ fn huge_sparse_network_null_run() {
     assert_eq!(run.values.len(), 4);
     assert!(run.values.iter().all(|v| v[0].is_finite()));
 }
+
+/// The hidden `--row-lists` switch of `nidus null` forces list draws on a
+/// small file: fixed-both gives the same report as the bit-table run, and
+/// proportional (other random numbers on lists) another one, which shows
+/// that the switch took effect.
+#[test]
+fn cli_row_lists_switch_gives_the_same_fixed_both_report() {
+    let w = random_matrix(&mut rng(31), 12, 15, 0.3, 1);
+    let file = scratch("small.csv");
+    write_matrix_file(&file, &w);
+    let run = |model: &str, extra: &[&str]| {
+        let mut args = vec![
+            "null",
+            file.to_str().unwrap(),
+            "--model",
+            model,
+            "--draws",
+            "50",
+            "--seed",
+            "4",
+        ];
+        args.extend_from_slice(extra);
+        let o = nidus(&args);
+        assert_eq!(
+            o.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        String::from_utf8(o.stdout).unwrap()
+    };
+    assert_eq!(run("fixed-both", &["--row-lists"]), run("fixed-both", &[]));
+    assert_ne!(
+        run("proportional", &["--row-lists"]),
+        run("proportional", &[])
+    );
+}

@@ -53,6 +53,9 @@ pub struct NullArgs {
     /// Curveball trades per fixed-both draw (default 5 * max(rows, columns)).
     #[arg(long, value_name = "B")]
     burn_in: Option<usize>,
+    /// For tests: binary draws as row lists whatever the network's size.
+    #[arg(long, hide = true)]
+    row_lists: bool,
     /// Compute only shard I of K (1-based) and save its draws (needs --save-draws).
     #[arg(long, value_name = "I/K")]
     shard: Option<Shard>,
@@ -456,6 +459,9 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             config.stop_after = args.stop_after;
             config.order = args.order;
             config.options = NullOptions::new(args.burn_in);
+            if args.row_lists {
+                config.options.lists = Some(true);
+            }
             config.check().map(|()| config)
         })
         .collect::<nidus::Result<_>>()?;
