@@ -4,7 +4,10 @@
 //! * Binary models read the binary view of the network (a weighted network
 //!   is treated as its pattern of non-zero cells) and return a [`BitMatrix`]:
 //!   [`Equiprobable`], [`Proportional`], [`FixedRows`], [`FixedColumns`] and
-//!   the curveball chain [`CurveballChain`] for `fixed-both`.
+//!   the curveball chain [`CurveballChain`] for `fixed-both`. For large
+//!   sparse networks [`NullSampler`] draws them as row lists instead
+//!   ([`NullDraw::BinaryLists`]; [`lists_chosen`] decides; the curveball on
+//!   lists is [`CurveballLists`]).
 //! * Weighted models return an `ndarray::Array2<f64>`: [`ShuffleCells`],
 //!   [`ShuffleWeights`] and [`FixedTotals`] (Patefield's algorithm).
 //!
