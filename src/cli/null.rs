@@ -14,9 +14,11 @@ use nidus::figures::{null_figure, NullPanel};
 use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
+    accumulate::EXACT_DRAWS,
     draws_file::{differing_setting, MAX_DRAWS},
-    read_draws, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun,
-    SavedRun, SectionWriter, Shard,
+    merge_stream::index_file,
+    run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun, SectionIndex,
+    SectionWriter, Shard,
 };
 use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
@@ -79,6 +81,10 @@ pub struct NullArgs {
     /// to PATH (with several files: PATH's name with each file's name inserted).
     #[arg(long, value_name = "PATH")]
     svg: Option<PathBuf>,
+    /// Draws kept exactly before the summaries turn to streaming statistics
+    /// (for tests of merges and resumed runs past the limit on few draws).
+    #[arg(long, hide = true, value_name = "N", default_value_t = EXACT_DRAWS)]
+    exact_draws: usize,
 }
 
 /// One JSON line or CSV row of a null test: the run's identity, then the
@@ -495,9 +501,12 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         }
     }
     // Sections of an interrupted run to continue, by (file, model).
-    let mut resumed: HashMap<(String, NullModel), SavedRun> = HashMap::new();
+    // Every section is checked now (a damaged file, or a gap in its draw
+    // numbers, is refused before anything runs); the draws are read again
+    // when their run starts.
+    let mut resumed: HashMap<(String, NullModel), SectionIndex> = HashMap::new();
     if let Some(p) = &args.resume {
-        for r in read_draws(p)? {
+        for r in index_file(p)? {
             resumed.insert((r.file.clone(), r.run.model), r);
         }
     }
@@ -522,10 +531,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 None => args.draws,
             };
             let earlier = resumed.remove(&(shown.clone(), model));
-            let start = earlier
-                .as_ref()
-                .and_then(|r| r.run.draw_ids.last())
-                .map_or(0, |&k| k + 1);
+            let start = earlier.as_ref().map_or(0, |r| r.next_draw());
             let progress = Progress::new(share, &format!("{shown} ({model})"));
             let target = saved.as_ref().map(|f| f.target().to_path_buf());
             let write_err = |source: io::Error| Error::Write {
@@ -539,8 +545,14 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             let mut run_head: Option<NullRun> = None;
             let mut sink = |head: &NullRun, k: u64, v: &[f64]| -> nidus::Result<bool> {
                 if acc.is_none() {
-                    let (a, sec) = begin(head, &shown, earlier.as_ref(), writer.take())
-                        .map_err(|e| e.into_error(&write_err))?;
+                    let (a, sec) = begin(
+                        head,
+                        &shown,
+                        earlier.as_ref(),
+                        writer.take(),
+                        args.exact_draws,
+                    )
+                    .map_err(|e| e.into_error(&write_err))?;
                     acc = Some(a);
                     section = sec;
                     run_head = Some(head.clone());
@@ -575,7 +587,13 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             };
             // Every draw was saved before (a resumed run that had finished).
             if acc.is_none() {
-                match begin(&head, &shown, earlier.as_ref(), writer.take()) {
+                match begin(
+                    &head,
+                    &shown,
+                    earlier.as_ref(),
+                    writer.take(),
+                    args.exact_draws,
+                ) {
                     Ok((a, sec)) => {
                         acc = Some(a);
                         section = sec;
@@ -710,6 +728,12 @@ enum BeginError {
     Write(io::Error),
 }
 
+impl From<Error> for BeginError {
+    fn from(e: Error) -> Self {
+        BeginError::Input(e)
+    }
+}
+
 impl BeginError {
     fn into_error(self, write: &impl Fn(io::Error) -> Error) -> Error {
         match self {
@@ -725,11 +749,12 @@ impl BeginError {
 fn begin<'w, W: io::Write>(
     head: &NullRun,
     shown: &str,
-    earlier: Option<&SavedRun>,
+    earlier: Option<&SectionIndex>,
     writer: Option<&'w mut W>,
+    exact: usize,
 ) -> Result<(DrawSummaries, Option<SectionWriter<'w, W>>), BeginError> {
     let dirs = head.indices.iter().map(|k| k.more_nested()).collect();
-    let mut acc = DrawSummaries::new(head.observed.clone(), dirs, head.stop_after);
+    let mut acc = DrawSummaries::with_limit(head.observed.clone(), dirs, head.stop_after, exact);
     let mut section = match writer {
         Some(w) => Some(SectionWriter::begin(head, shown, w).map_err(BeginError::Write)?),
         None => None,
@@ -748,12 +773,14 @@ fn begin<'w, W: io::Write>(
                 head.model
             ))));
         }
-        for (&k, v) in e.run.draw_ids.iter().zip(&e.run.values) {
+        // Streamed from the file, line by line, checked again.
+        e.replay(|k, v| {
             acc.push(v);
-            if let Some(sec) = section.as_mut() {
-                sec.draw(k, v).map_err(BeginError::Write)?;
+            match section.as_mut() {
+                Some(sec) => sec.draw(k, v).map_err(BeginError::Write),
+                None => Ok(()),
             }
-        }
+        })?;
     }
     Ok((acc, section))
 }

@@ -77,6 +77,7 @@ pub mod accumulate;
 mod binary;
 mod curveball;
 pub mod draws_file;
+pub mod merge_stream;
 mod patefield;
 pub mod run;
 mod weighted;
@@ -85,6 +86,7 @@ pub use accumulate::{DrawSummaries, Histogram};
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
 pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
+pub use merge_stream::{merge_files, MergedRun, SectionIndex};
 pub use patefield::FixedTotals;
 pub use run::{
     run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
