@@ -947,7 +947,7 @@ fn write_label<W: Write>(out: &mut W, label: &str) -> std::io::Result<()> {
 
 #[cfg(test)]
 mod tests {
-    use super::edges::{label_hash, LabelIndex};
+    use super::edges::{label_hash, load_short, LabelIndex};
     use super::matrix::check_table_size;
     use super::*;
 
@@ -1048,6 +1048,22 @@ mod tests {
             format_value(&mut b, x);
             assert_eq!(b, s);
             assert_eq!(b.parse::<f64>().unwrap(), x);
+        }
+    }
+
+    /// The word of up to eight bytes against its definition: the bytes
+    /// copied into a zeroed buffer read as a little-endian integer, for
+    /// every length and byte values that tell positions apart.
+    #[test]
+    fn short_loads_match_a_zero_padded_copy() {
+        let bytes: Vec<u8> = (0..8u8).map(|k| 0x81 + 17 * k).collect();
+        for n in 0..=8 {
+            for start in 0..=(8 - n) {
+                let b = &bytes[start..start + n];
+                let mut w = [0u8; 8];
+                w[..n].copy_from_slice(b);
+                assert_eq!(load_short(b), u64::from_le_bytes(w), "{b:?}");
+            }
         }
     }
 

@@ -29,10 +29,29 @@ pub(super) struct LabelIndex {
 /// The first (up to) eight bytes of `b`, little-endian, zero padded.
 #[inline]
 fn head_word(b: &[u8]) -> u64 {
-    let mut w = [0u8; 8];
-    let k = b.len().min(8);
-    w[..k].copy_from_slice(&b[..k]);
-    u64::from_le_bytes(w)
+    load_short(&b[..b.len().min(8)])
+}
+
+/// The bytes of `b` (at most eight) as a little-endian word, zero padded:
+/// byte `k` of `b` is bits `8k..8k + 8`. Built from loads of four bytes
+/// (two overlapping ones for 4-7 bytes) or of single bytes (first, middle
+/// and last for 1-3 bytes): a copy into a zeroed buffer is a library call
+/// and a store the next load cannot take its value from.
+#[inline]
+pub(super) fn load_short(b: &[u8]) -> u64 {
+    let n = b.len();
+    debug_assert!(n <= 8);
+    if n == 8 {
+        u64::from_le_bytes([b[0], b[1], b[2], b[3], b[4], b[5], b[6], b[7]])
+    } else if n >= 4 {
+        let lo = u32::from_le_bytes([b[0], b[1], b[2], b[3]]) as u64;
+        let hi = u32::from_le_bytes([b[n - 4], b[n - 3], b[n - 2], b[n - 1]]) as u64;
+        lo | (hi << (8 * (n - 4)))
+    } else if n > 0 {
+        (b[0] as u64) | ((b[n / 2] as u64) << (8 * (n / 2))) | ((b[n - 1] as u64) << (8 * (n - 1)))
+    } else {
+        0
+    }
 }
 
 /// The slot tag of a label with hash `hash` and `len` bytes.
@@ -179,14 +198,9 @@ pub(super) fn label_hash(bytes: &[u8]) -> u64 {
     let mut h = 0u64;
     let mut chunks = bytes.chunks_exact(8);
     for c in &mut chunks {
-        let mut w = [0u8; 8];
-        w.copy_from_slice(c);
-        h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+        h = (h.rotate_left(5) ^ load_short(c)).wrapping_mul(K);
     }
-    let rest = chunks.remainder();
-    let mut w = [0u8; 8];
-    w[..rest.len()].copy_from_slice(rest);
-    h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    h = (h.rotate_left(5) ^ load_short(chunks.remainder())).wrapping_mul(K);
     h ^= bytes.len() as u64;
     h ^= h >> 33;
     h = h.wrapping_mul(0xFF51_AFD7_ED55_8CCD);
