@@ -21,6 +21,9 @@ struct Slot {
 /// three places far apart per lookup, which dominated reading time.
 pub(super) struct LabelIndex {
     slots: Vec<Slot>,
+    /// The [`label_hash`] of label `k`, so that growing the table does not
+    /// hash the labels again.
+    hashes: Vec<u64>,
     arena: String,
     /// End of label `k` in `arena`; it starts where label `k - 1` ends.
     ends: Vec<usize>,
@@ -64,6 +67,7 @@ impl LabelIndex {
     pub(super) fn new() -> Self {
         LabelIndex {
             slots: vec![Slot::default(); 1024],
+            hashes: Vec::new(),
             arena: String::new(),
             ends: Vec::new(),
         }
@@ -122,6 +126,7 @@ impl LabelIndex {
         let id1 = u32::try_from(self.ends.len() + 1).ok()?;
         self.arena.push_str(label);
         self.ends.push(self.arena.len());
+        self.hashes.push(hash);
         self.slots[pos] = Slot { head, tag, id1 };
         if 4 * self.ends.len() > 3 * self.slots.len() {
             self.grow();
@@ -134,7 +139,7 @@ impl LabelIndex {
         let mut slots = vec![Slot::default(); 2 * self.slots.len()];
         let mask = slots.len() - 1;
         for s in self.slots.iter().filter(|s| s.id1 != 0) {
-            let hash = label_hash(self.label(s.id1 as usize - 1).as_bytes());
+            let hash = self.hashes[s.id1 as usize - 1];
             let mut pos = hash as usize & mask;
             while slots[pos].id1 != 0 {
                 pos = (pos + 1) & mask;
@@ -209,6 +214,15 @@ pub(super) fn label_hash(bytes: &[u8]) -> u64 {
     h ^ (h >> 33)
 }
 
+/// How many bytes of `b` equal `x`: counted in byte-wide lanes over blocks
+/// of 255 bytes (so no lane overflows), which compilers turn into vector
+/// compares.
+pub(super) fn count_byte(b: &[u8], x: u8) -> usize {
+    b.chunks(255)
+        .map(|c| c.iter().fold(0u8, |n, &y| n + u8::from(y == x)) as usize)
+        .sum()
+}
+
 /// The edge lines of a file, with labels indexed.
 struct EdgeLines {
     rows: LabelIndex,
@@ -232,7 +246,7 @@ fn edge_lines<'a>(
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
-    let lines_guess = fields.text.bytes().filter(|&b| b == b'\n').count() + 1;
+    let lines_guess = count_byte(fields.text.as_bytes(), b'\n') + 1;
     let mut chunk = EdgeLines {
         rows: LabelIndex::new(),
         cols: LabelIndex::new(),
