@@ -80,6 +80,14 @@ pub fn run(args: SampleArgs) -> nidus::Result<ExitCode> {
     }
     let read = args.input.read_options();
     let net = read_input(&args.file, &read)?.network;
+    // Every network is written as a full table of numbers: refuse one that
+    // is too large before drawing, whatever storage the draws take.
+    nidus::storage::check_dense_size(
+        "a sampled network written as a table",
+        net.nrows(),
+        net.ncols(),
+        std::mem::size_of::<f64>(),
+    )?;
     let sampler = NullSampler::new(&net, args.model, &NullOptions::new(args.burn_in))?;
     std::fs::create_dir_all(&args.out).map_err(|source| Error::Write {
         path: args.out.clone(),

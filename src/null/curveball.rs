@@ -200,7 +200,7 @@ impl CurveballChain {
 /// words (Lemire 2019, ACM TOMACS 29:3), exact for `n <= 2^32`; larger `n`
 /// take the crate's 64-bit [`below`].
 #[derive(Default)]
-struct Halves {
+pub(super) struct Halves {
     word: u64,
     left: bool,
 }
@@ -219,7 +219,7 @@ impl Halves {
     }
 
     #[inline]
-    fn below<R: Rng + ?Sized>(&mut self, rng: &mut R, n: usize) -> usize {
+    pub(super) fn below<R: Rng + ?Sized>(&mut self, rng: &mut R, n: usize) -> usize {
         debug_assert!(n > 0);
         if n as u64 > 1 << 32 {
             return below(rng, n);

@@ -76,8 +76,10 @@ use crate::storage::{BitMatrix, Csr, Layout, NetView, Network, Weight};
 pub mod accumulate;
 mod binary;
 mod curveball;
+mod curveball_lists;
 pub mod draws_file;
 pub mod merge_stream;
+mod lists;
 mod patefield;
 pub mod run;
 mod weighted;
@@ -85,8 +87,10 @@ mod weighted;
 pub use accumulate::{DrawSummaries, Histogram};
 pub use binary::{Equiprobable, FixedColumns, FixedRows, Proportional};
 pub use curveball::CurveballChain;
+pub use curveball_lists::CurveballLists;
 pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
 pub use merge_stream::{merge_files, MergedRun, SectionIndex};
+pub use lists::{lists_chosen, LISTS_ABOVE_CELLS, LISTS_ALWAYS_ABOVE_CELLS, LISTS_BELOW_FILL};
 pub use patefield::FixedTotals;
 pub use run::{
     run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
@@ -190,21 +194,34 @@ pub struct NullOptions {
     /// Curveball trades per `fixed-both` draw; `None` means the default
     /// `5 * max(m, n)`, which is also the least accepted (docs/methods.md §6).
     pub burn_in: Option<usize>,
+    /// Binary draws as row lists (`Some(true)`), as bit tables
+    /// (`Some(false)`), or as [`lists_chosen`] decides (`None`). For tests.
+    #[doc(hidden)]
+    #[cfg_attr(feature = "serde", serde(skip))]
+    pub lists: Option<bool>,
 }
 
 impl NullOptions {
     /// Options with the given curveball trades per `fixed-both` draw.
     pub const fn new(burn_in: Option<usize>) -> Self {
-        NullOptions { burn_in }
+        NullOptions {
+            burn_in,
+            lists: None,
+        }
     }
 }
 
-/// One null matrix: binary models give a [`BitMatrix`], weighted models a
+/// One null matrix: binary models give a [`BitMatrix`] (or, for large
+/// sparse networks, row lists: see [`lists_chosen`]), weighted models a
 /// dense table of weights.
 #[derive(Clone, Debug, PartialEq)]
+#[non_exhaustive]
 pub enum NullDraw {
     /// A binary matrix.
     Binary(BitMatrix),
+    /// A binary matrix as compressed rows (columns ascending, every
+    /// weight 1): the draws of large sparse networks.
+    BinaryLists(Csr<f64>),
     /// A weighted table.
     Weighted(Array2<f64>),
 }
@@ -216,6 +233,15 @@ impl NullDraw {
             NullDraw::Binary(b) => {
                 Array2::from_shape_fn((b.nrows(), b.ncols()), |(i, j)| f64::from(b.get(i, j)))
             }
+            NullDraw::BinaryLists(c) => {
+                let mut a = Array2::zeros((c.nrows(), c.ncols()));
+                for i in 0..c.nrows() {
+                    for &j in c.row(i).0 {
+                        a[(i, j as usize)] = 1.0;
+                    }
+                }
+                a
+            }
             NullDraw::Weighted(w) => w.clone(),
         }
     }
@@ -225,6 +251,7 @@ macro_rules! by_draw {
     ($self:ident, $d:ident => $e:expr) => {
         match $self {
             NullDraw::Binary($d) => $e,
+            NullDraw::BinaryLists($d) => $e,
             NullDraw::Weighted($d) => $e,
         }
     };
@@ -341,6 +368,7 @@ enum Inner {
     ShuffleCells(ShuffleCells),
     ShuffleWeights(ShuffleWeights),
     FixedTotals(FixedTotals),
+    Lists(lists::ListSampler),
 }
 
 impl NullSampler {
@@ -354,13 +382,24 @@ impl NullSampler {
         model: NullModel,
         options: &NullOptions,
     ) -> Result<Self> {
+        let as_lists = !model.is_weighted()
+            && options
+                .lists
+                .unwrap_or_else(|| lists_chosen(net.nrows(), net.ncols(), net.links()));
         let inner = match model {
+            NullModel::Equiprobable
+            | NullModel::Proportional
+            | NullModel::FixedRows
+            | NullModel::FixedColumns
+                if as_lists =>
+            {
+                Inner::Lists(lists::ListSampler::new(net, model)?)
+            }
             NullModel::Equiprobable => Inner::Equiprobable(Equiprobable::new(net)?),
             NullModel::Proportional => Inner::Proportional(Proportional::new(net)?),
             NullModel::FixedRows => Inner::FixedRows(FixedRows::new(net)?),
             NullModel::FixedColumns => Inner::FixedColumns(FixedColumns::new(net)?),
             NullModel::FixedBoth => {
-                let start = CurveballChain::new(&net.binary()?);
                 let least = CurveballChain::default_burn_in(net.nrows(), net.ncols());
                 let burn_in = options.burn_in.unwrap_or(least);
                 if burn_in < least {
@@ -373,7 +412,15 @@ impl NullSampler {
                         net.ncols()
                     )));
                 }
-                Inner::FixedBoth(BurnIn::new(start, burn_in))
+                if as_lists {
+                    Inner::Lists(lists::ListSampler::FixedBoth(BurnIn::new(
+                        CurveballLists::new(net)?,
+                        burn_in,
+                    )))
+                } else {
+                    let start = CurveballChain::new(&net.binary()?);
+                    Inner::FixedBoth(BurnIn::new(start, burn_in))
+                }
             }
             NullModel::ShuffleCells => Inner::ShuffleCells(ShuffleCells::new(net)?),
             NullModel::ShuffleWeights => Inner::ShuffleWeights(ShuffleWeights::new(net)?),
@@ -387,10 +434,17 @@ impl NullSampler {
         self.model
     }
 
+    /// True when the draws are row lists ([`NullDraw::BinaryLists`]; see
+    /// [`lists_chosen`]).
+    pub fn draws_lists(&self) -> bool {
+        matches!(self.inner, Inner::Lists(_))
+    }
+
     /// Curveball trades per draw (`fixed-both` only).
     pub fn burn_in(&self) -> Option<usize> {
         match &self.inner {
             Inner::FixedBoth(b) => Some(b.steps()),
+            Inner::Lists(l) => l.burn_in(),
             _ => None,
         }
     }
@@ -407,6 +461,7 @@ impl NullSampler {
             Inner::ShuffleCells(s) => NullDraw::Weighted(s.sample(rng)),
             Inner::ShuffleWeights(s) => NullDraw::Weighted(s.sample(rng)),
             Inner::FixedTotals(s) => NullDraw::Weighted(s.sample(rng)),
+            Inner::Lists(s) => NullDraw::BinaryLists(s.sample(rng)),
         }
     }
 

@@ -653,6 +653,10 @@ fn run_inner<T: Weight>(
     // Binary models are tested on the binary view of the observed network.
     let run = if config.model.is_weighted() {
         test_inner(net, &stats, &sampler, &options, progress)?
+    } else if sampler.draws_lists() {
+        // As lists too: a bit table of a huge network is refused.
+        let b = crate::null::lists::binary_lists(net);
+        test_inner(&b, &stats, &sampler, &options, progress)?
     } else {
         let b = net.binary()?;
         test_inner(&b, &stats, &sampler, &options, progress)?
@@ -741,6 +745,9 @@ pub fn run_null_streaming<T: Weight>(
         };
         let (observed, _) = if config.model.is_weighted() {
             test_stream(net, &stats, &sampler, &options, start, progress, &mut inner)?
+        } else if sampler.draws_lists() {
+            let b = crate::null::lists::binary_lists(net);
+            test_stream(&b, &stats, &sampler, &options, start, progress, &mut inner)?
         } else {
             let b = net.binary()?;
             test_stream(&b, &stats, &sampler, &options, start, progress, &mut inner)?

@@ -225,6 +225,35 @@ impl<T: Weight> Csr<T> {
     }
 }
 
+impl Csr<f64> {
+    /// Binary rows (every weight 1) from lists the caller guarantees: each
+    /// row's columns distinct, ascending and below `ncols`, `indptr`
+    /// starting at 0 and ending at `indices.len()`.
+    pub(crate) fn ones_from_lists(
+        nrows: usize,
+        ncols: usize,
+        indptr: Vec<usize>,
+        indices: Vec<u32>,
+    ) -> Self {
+        debug_assert_eq!(indptr.len(), nrows + 1);
+        debug_assert_eq!(indptr.last().copied(), Some(indices.len()));
+        let values = vec![1.0; indices.len()];
+        Csr {
+            nrows,
+            ncols,
+            indptr,
+            indices,
+            values,
+        }
+    }
+
+    /// The row pointers and the column indices, the latter writable (row
+    /// lengths cannot change); the caller keeps every row ascending.
+    pub(crate) fn lists_mut(&mut self) -> (&[usize], &mut [u32]) {
+        (&self.indptr, &mut self.indices)
+    }
+}
+
 /// Views of a network built on first use and kept (a network never
 /// changes after construction): compressed rows and columns with `f64`
 /// weights, and the bit-packed binary view.
