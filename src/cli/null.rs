@@ -14,9 +14,9 @@ use nidus::figures::{null_figure, NullPanel};
 use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
-    draws_file::{differing_setting, MAX_DRAWS},
-    read_draws, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun,
-    SavedRun, SectionWriter, Shard,
+    draws_file::{differing_setting, MAX_DRAWS, MAX_RESTARTS},
+    packs_temperature, read_draws, run_null_streaming, DrawSummaries, NullConfig, NullModel,
+    NullOptions, NullRun, SavedRun, SectionWriter, Shard,
 };
 use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
@@ -70,6 +70,10 @@ pub struct NullArgs {
     /// Row and column order for NODF and WNODF: sorted or given.
     #[arg(long, default_value = "sorted", value_name = "sorted|given")]
     order: Order,
+    /// Temperature: random starts of the packing search besides the degree-sorted one, on the
+    /// observed network and on every draw (default 4; 0 is the cheapest packing).
+    #[arg(long, value_name = "N")]
+    restarts: Option<usize>,
     #[command(flatten)]
     input: LayoutArgs,
     /// Output format.
@@ -106,6 +110,9 @@ struct NullLine<'a> {
     order: Order,
     /// Curveball trades per draw (`fixed-both` only).
     burn_in: Option<usize>,
+    /// Random starts of the temperature packing search (`temperature`
+    /// tested only).
+    restarts: Option<usize>,
     /// Draws asked for (`--draws`).
     draws_requested: usize,
     /// Draws computed (all of them, or fewer after a sequential stop).
@@ -123,6 +130,7 @@ struct Settings {
     seed: u64,
     order: Order,
     burn_in: Option<usize>,
+    restarts: Option<usize>,
     draws_requested: usize,
     draws_done: usize,
     stop_after: Option<usize>,
@@ -137,6 +145,7 @@ impl Settings {
             seed: run.seed,
             order: run.order,
             burn_in: run.burn_in,
+            restarts: run.restarts,
             draws_requested: run.draws,
             draws_done: done,
             stop_after: run.stop_after,
@@ -190,6 +199,7 @@ fn line(
         p_reason,
         order: set.order,
         burn_in: set.burn_in,
+        restarts: set.restarts,
         draws_requested: set.draws_requested,
         draws_done: set.draws_done,
         stop_after: set.stop_after,
@@ -207,6 +217,7 @@ fn csv_table() -> nidus::Result<FlatTable> {
         seed: 0,
         order: Order::Sorted,
         burn_in: Some(1),
+        restarts: Some(1),
         draws_requested: 2,
         draws_done: 2,
         stop_after: Some(1),
@@ -251,13 +262,16 @@ pub fn render(
             String::new()
         };
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
             run.model,
             run.seed,
             run.draws,
             run.order.name(),
             run.burn_in.map_or(String::new(), |b| format!(
                 ", {b} curveball trades per draw"
+            )),
+            run.restarts.map_or(String::new(), |r| format!(
+                ", temperature packing with {r} random restarts"
             )),
             run.stop_after.map_or(String::new(), |h| format!(
                 ", sequential stop after {h} draws at least as nested"
@@ -456,12 +470,20 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             config.stop_after = args.stop_after;
             config.order = args.order;
             config.options = NullOptions::new(args.burn_in);
+            if let Some(r) = args.restarts {
+                config.restarts = r;
+            }
             config.check().map(|()| config)
         })
         .collect::<nidus::Result<_>>()?;
     if args.burn_in.is_some() && !args.model.0.contains(&NullModel::FixedBoth) {
         eprintln!(
             "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
+        );
+    }
+    if args.restarts.is_some() && !packs_temperature(&args.index.0) {
+        eprintln!(
+            "nidus: note: --restarts applies only to the packed temperature; the indices asked for do not use it"
         );
     }
     if args.shard.is_some() && args.svg.is_some() {
@@ -766,6 +788,12 @@ fn check_bounds(args: &NullArgs) -> nidus::Result<()> {
         return Err(Error::InvalidArgument(format!(
             "--draws {}: at most {MAX_DRAWS} draws per run (split larger runs over seeds)",
             args.draws
+        )));
+    }
+    if let Some(r) = args.restarts.filter(|&r| r > MAX_RESTARTS) {
+        return Err(Error::InvalidArgument(format!(
+            "--restarts {r}: at most {MAX_RESTARTS} random starts (each is a full packing search, \
+             on every draw)"
         )));
     }
     if let Some(s) = args.shard {

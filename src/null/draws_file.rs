@@ -18,6 +18,7 @@
 //! # stop_after  none
 //! # burn_in  1000
 //! # order  sorted
+//! # restarts  none
 //! # shape  200  200  4000
 //! # network  5d1c0a8f3b2e4c71
 //! # indices  nodf  nodf-rows
@@ -29,7 +30,10 @@
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or
-//! `none`; `shape` is rows, columns and links of the observed network;
+//! `none`; `restarts` is the number of random starts of the packing search
+//! of `temperature`, or `none` when that index is not tested (files written
+//! before this line existed lack it: a missing line reads as the default of
+//! those versions, 4 restarts when `temperature` is tested); `shape` is rows, columns and links of the observed network;
 //! `network` its content fingerprint ([`fingerprint`]), by which `merge`
 //! matches the parts of one run (not by the file's name as spelled).
 //! Numbers are written in Rust's shortest round-trip form, so reading gives
@@ -53,7 +57,7 @@ use std::path::Path;
 use crate::error::{Error, Result};
 use crate::index::IndexKind;
 use crate::metrics::Order;
-use crate::null::run::{NullRun, Shard};
+use crate::null::run::{packs_temperature, NullRun, Shard};
 use crate::null::NullModel;
 
 const MAGIC: &str = "# nidus null draws";
@@ -63,6 +67,14 @@ const VERSION: &str = "2";
 /// a run is split into) that nidus accepts, on the command line and in a
 /// saved-draws file: 10^9.
 pub const MAX_DRAWS: usize = 1_000_000_000;
+
+/// The most random starts of the temperature packing search that nidus
+/// accepts, on the command line and in a saved-draws file: 10,000.
+pub const MAX_RESTARTS: usize = 10_000;
+
+/// The restarts of a section that has no `# restarts` line (written before
+/// the line existed, when every run used the default).
+const OLD_DEFAULT_RESTARTS: usize = 4;
 
 /// 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325,
 /// prime 0x100000001b3 as in IETF draft-eastlake-fnv), fed in pieces.
@@ -214,6 +226,7 @@ impl<'w, W: Write> SectionWriter<'w, W> {
         s.push_str(&format!("# stop_after\t{}\n", opt(run.stop_after)));
         s.push_str(&format!("# burn_in\t{}\n", opt(run.burn_in)));
         s.push_str(&format!("# order\t{}\n", run.order));
+        s.push_str(&format!("# restarts\t{}\n", opt(run.restarts)));
         let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
         s.push_str(&format!("# network\t{:016x}\n", run.network));
@@ -436,6 +449,24 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         let burn_in: Option<usize> = parse_opt(&l, no, burn, "burn-in")?;
         let (no, order) = l.one("order")?;
         let order: Order = named(&l, no, 2, order)?;
+        // Optional (files of earlier versions lack it).
+        let restarts_line = match l.lines.peek() {
+            Some((_, line)) if line.split('\t').next() == Some("# restarts") => {
+                let (no, r) = l.one("restarts")?;
+                let r: Option<usize> = match r.parse::<u128>() {
+                    Ok(v) if v > MAX_RESTARTS as u128 => {
+                        return Err(l.err(
+                            no,
+                            Some(2),
+                            format!("{r} restarts is more than nidus accepts ({MAX_RESTARTS})"),
+                        ))
+                    }
+                    _ => parse_opt(&l, no, r, "number of restarts")?,
+                };
+                Some((no, r))
+            }
+            _ => None,
+        };
         let (no, shape) = l.header("shape")?;
         if shape.len() != 3 {
             return Err(l.err(no, None, "'# shape' needs rows, columns and links"));
@@ -459,6 +490,18 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         if indices.is_empty() {
             return Err(l.err(no, None, "no index named"));
         }
+        let restarts = match (packs_temperature(&indices), restarts_line) {
+            (false, _) => None,
+            (true, None) => Some(OLD_DEFAULT_RESTARTS),
+            (true, Some((_, Some(r)))) => Some(r),
+            (true, Some((no, None))) => {
+                return Err(l.err(
+                    no,
+                    Some(2),
+                    "temperature is tested: '# restarts' needs the number of random starts",
+                ))
+            }
+        };
         let (no, obs) = l.header("observed")?;
         if obs.len() != indices.len() {
             return Err(l.err(
@@ -575,6 +618,7 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
                 stop_after,
                 burn_in,
                 order,
+                restarts,
                 shape,
                 network,
                 draw_ids,
@@ -606,6 +650,7 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
         .or_else(|| d("stop_after", a.stop_after, b.stop_after))
         .or_else(|| d("burn_in", a.burn_in, b.burn_in))
         .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
+        .or_else(|| d("restarts (temperature packing)", a.restarts, b.restarts))
         .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
         .or_else(|| {
             (a.network != b.network).then(|| {

@@ -87,8 +87,8 @@ pub use curveball::CurveballChain;
 pub use draws_file::{merge_runs, parse_draws, read_draws, Fnv1a, SavedRun, SectionWriter};
 pub use patefield::FixedTotals;
 pub use run::{
-    run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
-    DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
+    packs_temperature, run_null, run_null_streaming, run_null_with_progress, run_test,
+    run_test_with_progress, DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
 };
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
