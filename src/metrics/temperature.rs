@@ -460,7 +460,7 @@ impl UnexpectednessTable {
     }
 
     fn to_t(&self, total: f64) -> f64 {
-        100.0 * total / (self.m as f64 * self.n as f64 * U_MAX)
+        to_t(self.m, self.n, total)
     }
 }
 
@@ -532,13 +532,105 @@ pub(crate) fn packed(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
     Ok(t.packed.unwrap_or(t.sorted))
 }
 
-/// Registry evaluator of `temperature-sorted` (no packing search).
-pub(crate) fn sorted(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
-    let opts = TemperatureOptions {
-        pack: false,
-        ..o.temperature
-    };
-    Ok(temperature(v, &opts)?.sorted)
+/// Registry evaluator of `temperature-sorted` (no packing search): the
+/// same value as [`temperature`]`(..).sorted`, bit for bit, computed by
+/// [`sorted_of_bits`].
+pub(crate) fn sorted(v: &dyn NetView, _o: &IndexOptions) -> Result<f64> {
+    check_size(v.nrows(), v.ncols())?;
+    sorted_of_bits(&*v.bits()?)
+}
+
+/// `T` of `b` in the degree-sorted order, as [`temperature`] gives it.
+///
+/// Draws of a model that keeps the number of ones `L` reuse the table of
+/// the thread's last matrix ([`temperature_of_bits`]). When `L` changes
+/// (equiprobable and proportional draws), building a new table would cost
+/// a root solve for every cell; instead each cell's side of the isocline is
+/// read from `a^p + b^p` (one power per row and per column) and only the
+/// unexpected cells, a presence outside the presence region or an absence
+/// inside it, get their root solve. Every value is computed by the same
+/// expressions as the table's and summed in the same order (the skipped
+/// cells add `+0`), so the result equals the table's bit for bit. The table
+/// is built (and kept) again once two matrices in a row have the same shape
+/// and `L`.
+pub(crate) fn sorted_of_bits(b: &BitMatrix) -> Result<f64> {
+    let key = (b.nrows(), b.ncols(), b.count_ones());
+    check_size(key.0, key.1)?;
+    let cached = LAST_TABLE.with(|c| {
+        c.borrow()
+            .as_ref()
+            .filter(|t| (t.m, t.n, t.links) == key)
+            .cloned()
+    });
+    let rows = degree_order(&b.row_degrees());
+    let cols = degree_order(&b.col_degrees());
+    if let Some(table) = cached {
+        return Ok(table.to_t(table.total(b, &rows, &cols)));
+    }
+    let repeated = LAST_KEY.with(|k| k.replace(Some(key)) == Some(key));
+    if repeated && key.0 * key.1 <= TABLE_CACHE_CELLS {
+        let table = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
+        LAST_TABLE.with(|c| *c.borrow_mut() = Some(table.clone()));
+        return Ok(table.to_t(table.total(b, &rows, &cols)));
+    }
+    Ok(to_t(key.0, key.1, unexpected_total(b, &rows, &cols)))
+}
+
+/// `sum(u)` of `b` with position `(i, j)` holding cell `(rows[i], cols[j])`:
+/// [`UnexpectednessTable::total`] without the table, root solves only for
+/// the unexpected cells (see [`sorted_of_bits`]). Rows are summed in
+/// parallel, their sums added in row order.
+///
+/// Cost: `O(m n)` additions plus one root solve per unexpected cell.
+#[doc(hidden)]
+pub fn unexpected_total(b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
+    let (m, n) = (b.nrows(), b.ncols());
+    let cells = m * n;
+    let links = b.count_ones();
+    if links == 0 || links == cells {
+        return 0.0; // the table is all zeros
+    }
+    let p = isocline_p(links as f64 / cells as f64);
+    // Per column: x, a = 1 - x and a^p, as the table's loop computes them.
+    let xs: Vec<(f64, f64, f64)> = (0..n)
+        .map(|j| {
+            let x = (j as f64 + 0.5) / n as f64;
+            let a = 1.0 - x;
+            (x, a, a.powf(p))
+        })
+        .collect();
+    let sums: Vec<f64> = (0..m)
+        .into_par_iter()
+        .map(|i| {
+            let y = (i as f64 + 0.5) / m as f64;
+            let bb = 1.0 - y;
+            let bp = bb.powf(p);
+            let row = b.row(rows[i]);
+            let mut s = 0.0;
+            for (&c, &(x, a, ap)) in cols.iter().zip(&xs) {
+                let level = ap + bp;
+                if level == 1.0 {
+                    continue; // on the isocline: nothing is unexpected
+                }
+                let present = (row[c / 64] >> (c % 64)) & 1 == 1;
+                if present == (level > 1.0) {
+                    continue; // expected: u = 0
+                }
+                let r = crossing(a, bb, p) / (1.0 - (x - y).abs());
+                s += r * r;
+            }
+            s
+        })
+        .collect();
+    let mut total = 0.0;
+    for s in sums {
+        total += s;
+    }
+    total
+}
+
+fn to_t(m: usize, n: usize, total: f64) -> f64 {
+    100.0 * total / (m as f64 * n as f64 * U_MAX)
 }
 
 /// [`temperature`] of a bit-packed binary matrix (null-model draws).
@@ -579,6 +671,9 @@ pub const TABLE_CACHE_CELLS: usize = 1 << 20;
 thread_local! {
     static LAST_TABLE: std::cell::RefCell<Option<std::sync::Arc<UnexpectednessTable>>> =
         const { std::cell::RefCell::new(None) };
+    /// Shape and `L` of the last matrix [`sorted_of_bits`] saw.
+    static LAST_KEY: std::cell::Cell<Option<(usize, usize, usize)>> =
+        const { std::cell::Cell::new(None) };
 }
 
 /// [`temperature`] of a bit matrix with a table built beforehand (it must
