@@ -685,7 +685,7 @@ pub fn temperature_with_table(
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
 ) -> Result<Temperature> {
-    with_table(b, table, opts, false)
+    with_table(b, table, opts, CostLoop::Lanes)
 }
 
 /// [`temperature_with_table`] with the packing search's cost tables built
@@ -697,14 +697,43 @@ pub fn temperature_with_table_direct_gathers(
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
 ) -> Result<Temperature> {
-    with_table(b, table, opts, true)
+    with_table(b, table, opts, CostLoop::Direct)
 }
+
+/// [`temperature_with_table`] with the packing search's cost tables built
+/// by the blocked loop that adds into the table in memory (the loop before
+/// the register lanes; same result, bit for bit). Kept for side-by-side
+/// timing; not part of the API.
+#[doc(hidden)]
+pub fn temperature_with_table_blocked(
+    b: &BitMatrix,
+    table: &UnexpectednessTable,
+    opts: &TemperatureOptions,
+) -> Result<Temperature> {
+    with_table(b, table, opts, CostLoop::Blocked)
+}
+
+/// How the packing search builds its cost tables; every loop gives the
+/// same table bit for bit (the other two are kept for timing and tests).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum CostLoop {
+    /// A gather over the members' positions for each entry.
+    Direct,
+    /// Contiguous additions into the table, a block of positions at a time.
+    Blocked,
+    /// Sums of [`LANES`] positions (twice as many with AVX2) kept in
+    /// registers while the members' rows are added (the default).
+    Lanes,
+}
+
+/// Positions summed together in registers by [`CostLoop::Lanes`].
+const LANES: usize = 16;
 
 fn with_table(
     b: &BitMatrix,
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
-    direct: bool,
+    how: CostLoop,
 ) -> Result<Temperature> {
     let (m, n) = (b.nrows(), b.ncols());
     let links = b.count_ones();
@@ -738,7 +767,7 @@ fn with_table(
             (sorted_total, sorted_rows, sorted_cols),
             opts,
             true,
-            direct,
+            how,
         );
         (Some(table.to_t(best.0)), best.1, best.2)
     } else {
@@ -800,12 +829,12 @@ struct Packer<'a> {
     delta: Vec<f64>,
     /// `delta_t[j m + i]` = the same, transposed.
     delta_t: Vec<f64>,
-    /// Build cost tables by the direct gather loop (timing and tests only).
-    direct: bool,
+    /// The loop that builds cost tables.
+    how: CostLoop,
 }
 
 impl<'a> Packer<'a> {
-    fn new(b: &'a BitMatrix, table: &'a UnexpectednessTable, direct: bool) -> Self {
+    fn new(b: &'a BitMatrix, table: &'a UnexpectednessTable, how: CostLoop) -> Self {
         let (m, n) = (b.nrows(), b.ncols());
         let row_ones: Vec<Vec<usize>> = (0..m).map(|i| b.row_ones(i).collect()).collect();
         let mut col_ones = vec![Vec::new(); n];
@@ -833,7 +862,7 @@ impl<'a> Packer<'a> {
             col_ones,
             delta,
             delta_t,
-            direct,
+            how,
         }
     }
 
@@ -851,18 +880,25 @@ impl<'a> Packer<'a> {
     /// stays in cache). Each entry is the same sum in the same order as a
     /// gather over `pos(c)` for each position, so the table is bit for bit
     /// that of the direct loop.
+    ///
+    /// [`CostLoop::Lanes`] (the default) goes through the same blocks, but
+    /// for each item and each run of [`LANES`] positions keeps the sums in
+    /// registers while the members' rows are added (the blocked loop loads
+    /// and stores the table entry at every addition, which bounded its
+    /// speed); each entry is still `zero + d_1 + d_2 + ...` in the order of
+    /// `ones[r]`, so the table is the same bit for bit.
     fn best_side(
         ones: &[Vec<usize>],
         other_pos: &[usize],
-        by_other: &[f64],
+        (by_other, by_this): (&[f64], &[f64]),
         cost: &mut Vec<f64>,
         work: &mut Workspace,
-        direct: Option<&[f64]>,
+        how: CostLoop,
     ) -> Vec<usize> {
         let k = ones.len();
         cost.clear();
         cost.resize(k * k, 0.0);
-        if let Some(by_this) = direct {
+        if how == CostLoop::Direct {
             legacy_cost(ones, other_pos, by_this, by_other.len() / k.max(1), cost);
             return Self::order_from(work.solve_from(cost, k, true));
         }
@@ -876,6 +912,13 @@ impl<'a> Packer<'a> {
         // matrices take several).
         const BLOCK_CELLS: usize = if cfg!(test) { 256 } else { 32_768 };
         let block = (BLOCK_CELLS / width.max(1)).clamp(16, k.max(16));
+        // Whole runs of register lanes per block (any blocking gives the
+        // same entries).
+        let block = if how == CostLoop::Lanes {
+            block.div_ceil(2 * LANES) * (2 * LANES)
+        } else {
+            block
+        };
         let mut at: Vec<usize> = Vec::new();
         let mut starts = Vec::with_capacity(k + 1);
         starts.push(0);
@@ -886,9 +929,14 @@ impl<'a> Packer<'a> {
         for i0 in (0..k).step_by(block) {
             let i1 = (i0 + block).min(k);
             for (r, out) in cost.chunks_exact_mut(k).enumerate() {
+                let qs = &at[starts[r]..starts[r + 1]];
+                if how == CostLoop::Lanes {
+                    lane_sums(qs, by_other, zero, (i0, i1), out);
+                    continue;
+                }
                 let out = &mut out[i0..i1];
                 out.fill(zero);
-                for &q in &at[starts[r]..starts[r + 1]] {
+                for &q in qs {
                     let src = &by_other[q + i0..q + i1];
                     for (o, &x) in out.iter_mut().zip(src) {
                         *o += x;
@@ -920,10 +968,10 @@ impl<'a> Packer<'a> {
         Self::best_side(
             &self.row_ones,
             &pos,
-            &self.delta_t,
+            (&self.delta_t, &self.delta),
             cost,
             work,
-            self.direct.then_some(&self.delta[..]),
+            self.how,
         )
     }
 
@@ -932,10 +980,10 @@ impl<'a> Packer<'a> {
         Self::best_side(
             &self.col_ones,
             &pos,
-            &self.delta,
+            (&self.delta, &self.delta_t),
             cost,
             work,
-            self.direct.then_some(&self.delta_t[..]),
+            self.how,
         )
     }
 
@@ -995,6 +1043,64 @@ impl<'a> Packer<'a> {
             }
         });
         best
+    }
+}
+
+/// Entries `i0..i1` of one item's cost row:
+/// `out[i] = zero + by_other[q_1 + i] + by_other[q_2 + i] + ...` over `qs` in order, `W` positions at a time
+/// with the running sums in a local array (kept in registers), the
+/// positions past the last whole run one by one. On x86-64 the same loop
+/// is compiled for AVX2 and used when the CPU has it (additions of the same
+/// numbers in the same order: the same bits).
+fn lane_sums(qs: &[usize], by_other: &[f64], zero: f64, span: (usize, usize), out: &mut [f64]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports avx2 (checked).
+            return unsafe { lane_sums_avx2(qs, by_other, zero, span, out) };
+        }
+    }
+    lane_body::<LANES>(qs, by_other, zero, span, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn lane_sums_avx2(
+    qs: &[usize],
+    by_other: &[f64],
+    zero: f64,
+    span: (usize, usize),
+    out: &mut [f64],
+) {
+    lane_body::<{ 2 * LANES }>(qs, by_other, zero, span, out)
+}
+
+#[inline(always)]
+fn lane_body<const W: usize>(
+    qs: &[usize],
+    by_other: &[f64],
+    zero: f64,
+    (i0, i1): (usize, usize),
+    out: &mut [f64],
+) {
+    let mut i = i0;
+    while i + W <= i1 {
+        let mut acc = [zero; W];
+        for &q in qs {
+            let src: &[f64; W] = by_other[q + i..q + i + W].try_into().expect("W values");
+            for (a, &x) in acc.iter_mut().zip(src) {
+                *a += x;
+            }
+        }
+        out[i..i + W].copy_from_slice(&acc);
+        i += W;
+    }
+    for (ii, o) in out.iter_mut().enumerate().take(i1).skip(i) {
+        let mut a = zero;
+        for &q in qs {
+            a += by_other[q + ii];
+        }
+        *o = a;
     }
 }
 
@@ -1091,14 +1197,14 @@ fn pack(
     sorted: Candidate,
     opts: &TemperatureOptions,
     allow_exact: bool,
-    direct: bool,
+    how: CostLoop,
 ) -> Candidate {
     let (m, n) = (b.nrows(), b.ncols());
     let links = table.links;
     if links == 0 || links == m * n || sorted.0 == 0.0 {
         return sorted; // nothing can be lower than 0
     }
-    let packer = Packer::new(b, table, direct);
+    let packer = Packer::new(b, table, how);
     if allow_exact && packing_is_exact(m, n, links) {
         return if m <= n {
             packer.exhaust_rows(sorted)
