@@ -311,18 +311,18 @@ fn gap_in_draw_numbers_is_refused_on_resume_and_merge() {
     ));
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     let e = stderr(&o);
-    // 14 header lines, then draw k on line 15 + k: draw 58 sits on line 72.
-    assert!(e.contains(s(&part)) && e.contains("line 72"), "{e}");
+    // 15 header lines, then draw k on line 16 + k: draw 58 sits on line 73.
+    assert!(e.contains(s(&part)) && e.contains("line 73"), "{e}");
     assert!(e.contains("draw 57 is missing"), "{e}");
     assert!(!out.exists(), "nothing saved");
     let o = nidus(&["merge", s(&part)]);
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
-    assert!(stderr(&o).contains("line 72"), "{}", stderr(&o));
+    assert!(stderr(&o).contains("line 73"), "{}", stderr(&o));
     // A section that starts late (draws 0..4 lost) is refused too.
     let late = partial_file("gap.late.tsv", s(&net_path), &(5..100).collect::<Vec<_>>());
     let e = parse_draws(&std::fs::read_to_string(&late).unwrap(), &late).unwrap_err();
     assert!(
-        e.to_string().contains("line 15") && e.to_string().contains("draw 0 is missing"),
+        e.to_string().contains("line 16") && e.to_string().contains("draw 0 is missing"),
         "{e}"
     );
 }
@@ -407,10 +407,10 @@ fn non_utf8_bytes_are_refused_with_line_and_column() {
         e.contains(s(&p)) && e.contains("line 3") && e.contains("column 9"),
         "{e}"
     );
-    // In a draw line (line 16, draw 4 of shard 2/3: "4<TAB>..."): column 3.
+    // In a draw line (line 17, draw 4 of shard 2/3: "4<TAB>..."): column 3.
     let start: usize = text
         .split(|&b| b == b'\n')
-        .take(15)
+        .take(16)
         .map(|l| l.len() + 1)
         .sum();
     assert_eq!(&text[start..start + 2], b"4\t");
@@ -431,7 +431,7 @@ fn non_utf8_bytes_are_refused_with_line_and_column() {
     ));
     assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
     let e = stderr(&o);
-    assert!(e.contains("line 16") && e.contains("column 3"), "{e}");
+    assert!(e.contains("line 17") && e.contains("column 3"), "{e}");
 }
 
 /// Item 8, memory bounded by the network: the peak memory of a merge does

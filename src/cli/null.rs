@@ -15,10 +15,10 @@ use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
     accumulate::EXACT_DRAWS,
-    draws_file::{differing_setting, MAX_DRAWS},
+    draws_file::{differing_setting, MAX_DRAWS, MAX_RESTARTS},
     merge_stream::index_file,
-    run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun, SectionIndex,
-    SectionWriter, Shard,
+    packs_temperature, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions,
+    NullRun, SectionIndex, SectionWriter, Shard,
 };
 use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
@@ -72,6 +72,10 @@ pub struct NullArgs {
     /// Row and column order for NODF and WNODF: sorted or given.
     #[arg(long, default_value = "sorted", value_name = "sorted|given")]
     order: Order,
+    /// Temperature: random starts of the packing search besides the degree-sorted one, on the
+    /// observed network and on every draw (default 4; 0 is the cheapest packing).
+    #[arg(long, value_name = "N")]
+    restarts: Option<usize>,
     #[command(flatten)]
     input: LayoutArgs,
     /// Output format.
@@ -112,6 +116,9 @@ struct NullLine<'a> {
     order: Order,
     /// Curveball trades per draw (`fixed-both` only).
     burn_in: Option<usize>,
+    /// Random starts of the temperature packing search (`temperature`
+    /// tested only).
+    restarts: Option<usize>,
     /// Draws asked for (`--draws`).
     draws_requested: usize,
     /// Draws computed (all of them, or fewer after a sequential stop).
@@ -129,6 +136,7 @@ struct Settings {
     seed: u64,
     order: Order,
     burn_in: Option<usize>,
+    restarts: Option<usize>,
     draws_requested: usize,
     draws_done: usize,
     stop_after: Option<usize>,
@@ -143,6 +151,7 @@ impl Settings {
             seed: run.seed,
             order: run.order,
             burn_in: run.burn_in,
+            restarts: run.restarts,
             draws_requested: run.draws,
             draws_done: done,
             stop_after: run.stop_after,
@@ -196,6 +205,7 @@ fn line(
         p_reason,
         order: set.order,
         burn_in: set.burn_in,
+        restarts: set.restarts,
         draws_requested: set.draws_requested,
         draws_done: set.draws_done,
         stop_after: set.stop_after,
@@ -213,6 +223,7 @@ fn csv_table() -> nidus::Result<FlatTable> {
         seed: 0,
         order: Order::Sorted,
         burn_in: Some(1),
+        restarts: Some(1),
         draws_requested: 2,
         draws_done: 2,
         stop_after: Some(1),
@@ -257,13 +268,16 @@ pub fn render(
             String::new()
         };
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
             run.model,
             run.seed,
             run.draws,
             run.order.name(),
             run.burn_in.map_or(String::new(), |b| format!(
                 ", {b} curveball trades per draw"
+            )),
+            run.restarts.map_or(String::new(), |r| format!(
+                ", temperature packing with {r} random restarts"
             )),
             run.stop_after.map_or(String::new(), |h| format!(
                 ", sequential stop after {h} draws at least as nested"
@@ -462,12 +476,20 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             config.stop_after = args.stop_after;
             config.order = args.order;
             config.options = NullOptions::new(args.burn_in);
+            if let Some(r) = args.restarts {
+                config.restarts = r;
+            }
             config.check().map(|()| config)
         })
         .collect::<nidus::Result<_>>()?;
     if args.burn_in.is_some() && !args.model.0.contains(&NullModel::FixedBoth) {
         eprintln!(
             "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
+        );
+    }
+    if args.restarts.is_some() && !packs_temperature(&args.index.0) {
+        eprintln!(
+            "nidus: note: --restarts applies only to the packed temperature; the indices asked for do not use it"
         );
     }
     if args.shard.is_some() && args.svg.is_some() {
@@ -793,6 +815,12 @@ fn check_bounds(args: &NullArgs) -> nidus::Result<()> {
         return Err(Error::InvalidArgument(format!(
             "--draws {}: at most {MAX_DRAWS} draws per run (split larger runs over seeds)",
             args.draws
+        )));
+    }
+    if let Some(r) = args.restarts.filter(|&r| r > MAX_RESTARTS) {
+        return Err(Error::InvalidArgument(format!(
+            "--restarts {r}: at most {MAX_RESTARTS} random starts (each is a full packing search, \
+             on every draw)"
         )));
     }
     if let Some(s) = args.shard {

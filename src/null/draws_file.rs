@@ -18,6 +18,7 @@
 //! # stop_after  none
 //! # burn_in  1000
 //! # order  sorted
+//! # restarts  none
 //! # shape  200  200  4000
 //! # network  5d1c0a8f3b2e4c71
 //! # indices  nodf  nodf-rows
@@ -29,7 +30,10 @@
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or
-//! `none`; `shape` is rows, columns and links of the observed network;
+//! `none`; `restarts` is the number of random starts of the packing search
+//! of `temperature`, or `none` when that index is not tested (files written
+//! before this line existed lack it: a missing line reads as the default of
+//! those versions, 4 restarts when `temperature` is tested); `shape` is rows, columns and links of the observed network;
 //! `network` its content fingerprint ([`fingerprint`]), by which `merge`
 //! matches the parts of one run (not by the file's name as spelled).
 //! Numbers are written in Rust's shortest round-trip form, so reading gives
@@ -53,7 +57,7 @@ use std::path::Path;
 use crate::error::{Error, Result};
 use crate::index::IndexKind;
 use crate::metrics::Order;
-use crate::null::run::{NullRun, Shard};
+use crate::null::run::{packs_temperature, NullRun, Shard};
 use crate::null::NullModel;
 
 const MAGIC: &str = "# nidus null draws";
@@ -63,6 +67,14 @@ const VERSION: &str = "2";
 /// a run is split into) that nidus accepts, on the command line and in a
 /// saved-draws file: 10^9.
 pub const MAX_DRAWS: usize = 1_000_000_000;
+
+/// The most random starts of the temperature packing search that nidus
+/// accepts, on the command line and in a saved-draws file: 10,000.
+pub const MAX_RESTARTS: usize = 10_000;
+
+/// The restarts of a section that has no `# restarts` line (written before
+/// the line existed, when every run used the default).
+const OLD_DEFAULT_RESTARTS: usize = 4;
 
 /// 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325,
 /// prime 0x100000001b3 as in IETF draft-eastlake-fnv), fed in pieces.
@@ -214,6 +226,7 @@ impl<'w, W: Write> SectionWriter<'w, W> {
         s.push_str(&format!("# stop_after\t{}\n", opt(run.stop_after)));
         s.push_str(&format!("# burn_in\t{}\n", opt(run.burn_in)));
         s.push_str(&format!("# order\t{}\n", run.order));
+        s.push_str(&format!("# restarts\t{}\n", opt(run.restarts)));
         let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
         s.push_str(&format!("# network\t{:016x}\n", run.network));
@@ -398,6 +411,12 @@ impl<R: std::io::BufRead> LineReader<R> {
         if !self.advance()? {
             return Err(self.err_at(0, None, format!("the file ends before the '# {key}' line")));
         }
+        self.fields_here(key)
+    }
+
+    /// The line already read, checked to be the header line `# key`: its
+    /// fields.
+    fn fields_here(&self, key: &str) -> Result<Vec<String>> {
         let line = self.line();
         let mut fields = line.split('\t');
         let head = fields.next().unwrap_or("");
@@ -507,7 +526,35 @@ impl<R: std::io::BufRead> LineReader<R> {
         let burn_in: Option<usize> = self.opt(&burn, "burn-in")?;
         let order = self.one("order")?;
         let order: Order = self.named(2, &order)?;
-        let shape = self.header("shape")?;
+        // Optional (files of earlier versions lack it): when the next line
+        // is not '# restarts', it is the '# shape' line, read in place.
+        if !self.advance()? {
+            return Err(self.err_at(0, None, "the file ends before the '# shape' line"));
+        }
+        let restarts_line = if self.line().split('\t').next() == Some("# restarts") {
+            let r = self.fields_here("restarts")?;
+            if r.len() != 1 {
+                return Err(self.err(None, "'# restarts' needs exactly one value"));
+            }
+            let r = &r[0];
+            let parsed: Option<usize> = match r.parse::<u128>() {
+                Ok(v) if v > MAX_RESTARTS as u128 => {
+                    return Err(self.err(
+                        Some(2),
+                        format!("{r} restarts is more than nidus accepts ({MAX_RESTARTS})"),
+                    ))
+                }
+                _ => self.opt(r, "number of restarts")?,
+            };
+            let no = self.no;
+            if !self.advance()? {
+                return Err(self.err_at(0, None, "the file ends before the '# shape' line"));
+            }
+            Some((no, parsed))
+        } else {
+            None
+        };
+        let shape = self.fields_here("shape")?;
         if shape.len() != 3 {
             return Err(self.err(None, "'# shape' needs rows, columns and links"));
         }
@@ -530,6 +577,18 @@ impl<R: std::io::BufRead> LineReader<R> {
         if indices.is_empty() {
             return Err(self.err(None, "no index named"));
         }
+        let restarts = match (packs_temperature(&indices), restarts_line) {
+            (false, _) => None,
+            (true, None) => Some(OLD_DEFAULT_RESTARTS),
+            (true, Some((_, Some(r)))) => Some(r),
+            (true, Some((no, None))) => {
+                return Err(self.err_at(
+                    no,
+                    Some(2),
+                    "temperature is tested: '# restarts' needs the number of random starts",
+                ))
+            }
+        };
         let obs = self.header("observed")?;
         if obs.len() != indices.len() {
             return Err(self.err(
@@ -564,6 +623,7 @@ impl<R: std::io::BufRead> LineReader<R> {
                 stop_after,
                 burn_in,
                 order,
+                restarts,
                 shape,
                 network,
                 draw_ids: Vec::new(),
@@ -745,6 +805,7 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
         .or_else(|| d("stop_after", a.stop_after, b.stop_after))
         .or_else(|| d("burn_in", a.burn_in, b.burn_in))
         .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
+        .or_else(|| d("restarts (temperature packing)", a.restarts, b.restarts))
         .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
         .or_else(|| {
             (a.network != b.network).then(|| {

@@ -93,8 +93,8 @@ pub use merge_stream::{merge_files, MergedRun, SectionIndex};
 pub use lists::{lists_chosen, LISTS_ABOVE_CELLS, LISTS_ALWAYS_ABOVE_CELLS, LISTS_BELOW_FILL};
 pub use patefield::FixedTotals;
 pub use run::{
-    run_null, run_null_streaming, run_null_with_progress, run_test, run_test_with_progress,
-    DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
+    packs_temperature, run_null, run_null_streaming, run_null_with_progress, run_test,
+    run_test_with_progress, DrawSink, NullConfig, NullRun, RunOptions, Shard, TestRun,
 };
 pub use weighted::{ShuffleCells, ShuffleWeights};
 
