@@ -54,6 +54,15 @@ pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
     csr::wnodf_csr(&rows, order)
 }
 
+/// WNODF by the rank kernels whatever the storage (the list kernels where
+/// the rank kernels decline: many distinct weights in the sorted order),
+/// for benches comparing the kernels on sparse storage.
+#[doc(hidden)]
+pub fn wnodf_ranks<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
+    let rows = view.compressed_rows()?;
+    ranks::wnodf_ranked(&rows, order).unwrap_or_else(|| csr::wnodf_csr(&rows, order))
+}
+
 /// WNODF by the list kernels alone (a dominance count per list in the
 /// sorted order, pairs over `f64` weights in the given order), whatever the
 /// storage: the reference that [`wnodf`]'s rank kernels are tested and

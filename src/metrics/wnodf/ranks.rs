@@ -77,12 +77,20 @@ pub(crate) fn wnodf_ranked(rows: &Csr<f64>, order: Order) -> Option<Result<Parts
 /// anything else by sorting the distinct values (non-negative `f64` order
 /// as their bit patterns, `-0.0` read as `0.0`).
 fn global_ranks(vals: &[f64]) -> (Vec<u32>, usize) {
-    const TABLE: f64 = 65536.0;
-    let small = vals
-        .iter()
-        .all(|&x| (1.0..TABLE).contains(&x) && f64::from(x as u32) == x);
-    if small {
-        let top = vals.iter().fold(0u32, |a, &x| a.max(x as u32)) as usize;
+    // One pass without early exit (vectorised): whole numbers 1..2^16?
+    let (mut whole, mut top) = (true, 0u32);
+    for c in vals.chunks(256) {
+        for &x in c {
+            let u = x as u32; // saturating; NaN cannot occur
+            whole &= (f64::from(u) == x) & (u >= 1) & (u <= u32::from(u16::MAX));
+            top = top.max(u);
+        }
+        if !whole {
+            break;
+        }
+    }
+    if whole {
+        let top = top as usize;
         let mut table = vec![0u32; top + 1];
         for &x in vals {
             table[x as usize] = 1;
