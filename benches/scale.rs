@@ -3,7 +3,12 @@
 //! before timing; each iteration computes the value from the in-memory
 //! network. `NIDUS_BENCH_HUGE=1` adds the 10,000 x 10,000 dense case.
 //! `wnodf_dense_given/4000`: WNODF in the given order of a dense 4,000 x
-//! 4,000 network at fill 0.2 with weights 1-20.
+//! 4,000 network at fill 0.2 with weights 1-20; `wnodf_dense_sorted/4000`
+//! the same network in the sorted order. The `_lists` twins of these and of
+//! `wnodf_sparse/100000` time the list kernels (`wnodf_lists`, the path
+//! before the rank kernels) on the same input, and
+//! `wnodf_sparse_ranks/100000` the rank kernels on sparse storage (side by
+//! side comparisons).
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
 //! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
 //! same with the pre-word-level trade kept in `support/curveball_lists.rs`
@@ -28,6 +33,7 @@ use std::time::Duration;
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use ndarray::Array2;
+use nidus::metrics::wnodf::{wnodf_lists, wnodf_ranks};
 use nidus::metrics::{nodf, spectral_radius, temperature, wnodf, Order, TemperatureOptions};
 use nidus::null::{draw_rng, BurnIn, Distribution, NullDraw, NullModel, NullOptions, NullSampler};
 use nidus::Network;
@@ -54,6 +60,9 @@ fn dense_weighted(m: usize, fill: f64, max_weight: u32, seed: u64) -> Network<u3
     });
     Network::from_array(w).expect("a random dense network has links")
 }
+
+/// A WNODF entry point (the public one or a hidden reference).
+type WnodfFn = fn(&Network<u32>, Order) -> nidus::Result<nidus::metrics::Parts>;
 
 /// The shared sparse input, checked to be stored sparsely.
 fn sparse(n: usize, max_weight: u32, seed: u64) -> Network<u32> {
@@ -101,24 +110,58 @@ fn sparse_kernels(c: &mut Criterion) {
         });
     }
     g.finish();
-    let mut g = c.benchmark_group("wnodf_sparse");
-    g.sample_size(10).warm_up_time(Duration::from_secs(1));
-    g.measurement_time(Duration::from_secs(4));
     let net = sparse(100_000, 20, 3);
-    g.throughput(Throughput::Elements(net.links() as u64));
-    g.bench_with_input(BenchmarkId::from_parameter(100_000), &net, |b, net| {
-        b.iter(|| wnodf(net, Order::Sorted).unwrap().total)
-    });
-    g.finish();
-    let mut g = c.benchmark_group("wnodf_dense_given");
-    g.sample_size(10).warm_up_time(Duration::from_secs(1));
-    g.measurement_time(Duration::from_secs(8));
+    for (name, f) in [
+        ("wnodf_sparse", wnodf::<Network<u32>> as WnodfFn),
+        ("wnodf_sparse_lists", wnodf_lists::<Network<u32>>),
+        ("wnodf_sparse_ranks", wnodf_ranks::<Network<u32>>),
+    ] {
+        let mut g = c.benchmark_group(name);
+        g.sample_size(10).warm_up_time(Duration::from_secs(1));
+        g.measurement_time(Duration::from_secs(4));
+        g.throughput(Throughput::Elements(net.links() as u64));
+        g.bench_with_input(BenchmarkId::from_parameter(100_000), &net, |b, net| {
+            b.iter(|| f(net, Order::Sorted).unwrap().total)
+        });
+        g.finish();
+    }
+    // Dense 4000 x 4000, rank kernels and list kernels alternately.
     let net = dense_weighted(4000, 0.2, 20, 4);
-    g.throughput(Throughput::Elements(16_000_000));
-    g.bench_with_input(BenchmarkId::from_parameter(4000), &net, |b, net| {
-        b.iter(|| wnodf(net, Order::Given).unwrap().total)
-    });
-    g.finish();
+    for (name, f, order, secs) in [
+        (
+            "wnodf_dense_given",
+            wnodf::<Network<u32>> as WnodfFn,
+            Order::Given,
+            8,
+        ),
+        (
+            "wnodf_dense_given_lists",
+            wnodf_lists::<Network<u32>>,
+            Order::Given,
+            30,
+        ),
+        (
+            "wnodf_dense_sorted",
+            wnodf::<Network<u32>>,
+            Order::Sorted,
+            4,
+        ),
+        (
+            "wnodf_dense_sorted_lists",
+            wnodf_lists::<Network<u32>>,
+            Order::Sorted,
+            4,
+        ),
+    ] {
+        let mut g = c.benchmark_group(name);
+        g.sample_size(10).warm_up_time(Duration::from_secs(1));
+        g.measurement_time(Duration::from_secs(secs));
+        g.throughput(Throughput::Elements(16_000_000));
+        g.bench_with_input(BenchmarkId::from_parameter(4000), &net, |b, net| {
+            b.iter(|| f(net, order).unwrap().total)
+        });
+        g.finish();
+    }
     let mut g = c.benchmark_group("spectral_sparse");
     g.sample_size(10).warm_up_time(Duration::from_secs(1));
     g.measurement_time(Duration::from_secs(4));

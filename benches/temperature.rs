@@ -3,10 +3,11 @@
 //! table reused as for null draws that keep the number of ones
 //! (`given_sorted_reused`), and the packed order with the default search. Larger sizes run when `NIDUS_BENCH_LARGE` is set.
 //!
-//! `packing_one_start/{blocked,direct}/N` time the packed order from the
-//! sorted start alone (no restarts) with the search's cost tables built by
-//! the blocked loop and by the direct gather loop it replaced (same result
-//! bit for bit), side by side; N = 300, and 1000 with `NIDUS_BENCH_LARGE`.
+//! `packing_one_start/{lanes,blocked,direct}/N` time the packed order from
+//! the sorted start alone (no restarts) with the search's cost tables built
+//! by the register-lane loop (the default), the blocked loop it replaced
+//! and the direct gather loop before that (same result bit for bit), side
+//! by side; N = 300, and 1000 with `NIDUS_BENCH_LARGE`.
 #![allow(missing_docs)] // criterion's macros generate undocumented functions
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
@@ -14,8 +15,8 @@ use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
 use nidus::metrics::temperature::{
-    temperature, temperature_with_table, temperature_with_table_direct_gathers, TemperatureOptions,
-    UnexpectednessTable,
+    temperature, temperature_with_table, temperature_with_table_blocked,
+    temperature_with_table_direct_gathers, TemperatureOptions, UnexpectednessTable,
 };
 use nidus::BitMatrix;
 
@@ -66,10 +67,19 @@ fn bench(c: &mut Criterion) {
         let b = random_bits(size, size, 0.1, 43);
         let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
         let new = temperature_with_table(&b, &table, &one).unwrap();
+        let blocked = temperature_with_table_blocked(&b, &table, &one).unwrap();
         let old = temperature_with_table_direct_gathers(&b, &table, &one).unwrap();
-        assert_eq!(new, old, "the two loops give the same packing");
-        group.bench_with_input(BenchmarkId::new("blocked", size), &b, |bch, b| {
+        assert_eq!(new, old, "the loops give the same packing");
+        assert_eq!(new, blocked, "the loops give the same packing");
+        group.bench_with_input(BenchmarkId::new("lanes", size), &b, |bch, b| {
             bch.iter(|| temperature_with_table(b, &table, &one).unwrap().packed)
+        });
+        group.bench_with_input(BenchmarkId::new("blocked", size), &b, |bch, b| {
+            bch.iter(|| {
+                temperature_with_table_blocked(b, &table, &one)
+                    .unwrap()
+                    .packed
+            })
         });
         group.bench_with_input(BenchmarkId::new("direct", size), &b, |bch, b| {
             bch.iter(|| {

@@ -1,8 +1,10 @@
 //! Timing script for temperature packing (release build):
 //! `cargo run --release --example temperature_timing -- [SIZE] [FILL] [RESTARTS|none] [side-by-side]`.
 //! With `side-by-side`, the packing is also timed with the cost tables
-//! built by the direct gather loop (the loop before the blocked one), in
-//! the order blocked, direct, blocked, and the results are checked equal.
+//! built by the blocked loop (the loop before the register lanes) and by
+//! the direct gather loop (the loop before the blocked one), in the order
+//! lanes, blocked, direct, lanes, blocked, and the results are checked
+//! equal.
 //! Prints the time of the given/sorted values and of packing, and the
 //! temperatures found, for a seeded random square matrix.
 
@@ -12,8 +14,8 @@ use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
 use nidus::metrics::temperature::{
-    temperature, temperature_with_table, temperature_with_table_direct_gathers, TemperatureOptions,
-    UnexpectednessTable,
+    temperature, temperature_with_table, temperature_with_table_blocked,
+    temperature_with_table_direct_gathers, TemperatureOptions, UnexpectednessTable,
 };
 use nidus::numerics::assign::assign;
 use nidus::BitMatrix;
@@ -68,12 +70,12 @@ fn main() {
     }
     let table = UnexpectednessTable::new(size, size, b.count_ones()).unwrap();
     let mut results = Vec::new();
-    for (name, direct) in [("blocked", false), ("direct", true), ("blocked", false)] {
+    for name in ["lanes", "blocked", "direct", "lanes", "blocked"] {
         let t0 = Instant::now();
-        let t = if direct {
-            temperature_with_table_direct_gathers(&b, &table, &opts)
-        } else {
-            temperature_with_table(&b, &table, &opts)
+        let t = match name {
+            "direct" => temperature_with_table_direct_gathers(&b, &table, &opts),
+            "blocked" => temperature_with_table_blocked(&b, &table, &opts),
+            _ => temperature_with_table(&b, &table, &opts),
         }
         .unwrap();
         println!(

@@ -795,6 +795,9 @@ fn is_number(s: &str, decimal_comma: bool) -> bool {
 /// Parses one weight: finite, non-negative, decimal comma when the
 /// delimiter is `;`. An empty field is not handled here.
 fn parse_value(s: &str, decimal_comma: bool) -> std::result::Result<f64, BadValue> {
+    if let Some(x) = plain_decimal(s.as_bytes()) {
+        return Ok(x);
+    }
     let parsed = if decimal_comma && s.contains(',') {
         s.replacen(',', ".", 1).parse::<f64>()
     } else {
@@ -817,6 +820,41 @@ fn parse_value(s: &str, decimal_comma: bool) -> std::result::Result<f64, BadValu
         }
         Ok(x) => Ok(x + 0.0), // -0 becomes 0
     }
+}
+
+/// The value of a plain decimal of at most 15 digits (`123`, `0.25`: digits,
+/// or digits, a point and digits), or `None` for any other text. Clinger's
+/// fast path (W. D. Clinger, "How to read floating point numbers
+/// accurately", PLDI 1990): the digits form an integer below 10^15 < 2^53
+/// and the power of ten dividing it is at most 10^15 < 10^22, so both are
+/// exact `f64` values and one correctly rounded division gives the
+/// correctly rounded value, the same bits as `str::parse::<f64>`. Such a
+/// value is finite and non-negative, and zero only when every digit is.
+#[inline]
+fn plain_decimal(b: &[u8]) -> Option<f64> {
+    const POW10: [f64; 16] = [
+        1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+    ];
+    if b.is_empty() || b.len() > 16 {
+        return None;
+    }
+    let mut m = 0u64;
+    let mut point: Option<usize> = None;
+    for (k, &c) in b.iter().enumerate() {
+        match c {
+            b'0'..=b'9' => m = 10 * m + u64::from(c - b'0'),
+            b'.' if point.is_none() && k > 0 && k + 1 < b.len() => point = Some(k),
+            _ => return None,
+        }
+    }
+    let digits = b.len() - usize::from(point.is_some());
+    if digits > 15 {
+        return None;
+    }
+    Some(match point {
+        None => m as f64,
+        Some(k) => m as f64 / POW10[b.len() - 1 - k],
+    })
 }
 
 fn value_message(s: &str, why: BadValue, empty_is: &str) -> String {
@@ -947,7 +985,7 @@ fn write_label<W: Write>(out: &mut W, label: &str) -> std::io::Result<()> {
 
 #[cfg(test)]
 mod tests {
-    use super::edges::{label_hash, LabelIndex};
+    use super::edges::{count_byte, label_hash, load_short, LabelIndex};
     use super::matrix::check_table_size;
     use super::*;
 
@@ -1048,6 +1086,112 @@ mod tests {
             format_value(&mut b, x);
             assert_eq!(b, s);
             assert_eq!(b.parse::<f64>().unwrap(), x);
+        }
+    }
+
+    /// The fast path for plain decimals against `str::parse::<f64>`, bit for
+    /// bit: every string it accepts parses to the same bits. Strings are
+    /// random digits (leading zeros included) with an optional point
+    /// anywhere, 1 to 20 characters, plus edge cases; the fast path must
+    /// also be taken for the common forms (so the check is not vacuous).
+    #[test]
+    fn plain_decimals_match_the_std_parser() {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(11);
+        let mut strings: Vec<String> = [
+            "0",
+            "00",
+            "0.0",
+            "1",
+            "12",
+            "0.1",
+            "0.3",
+            "2.675",
+            "999999999999999",
+            "99999999999999.9",
+            "0.000000000000001",
+            "9007199254740993",
+            "1234567890123456",
+            "1.",
+            ".5",
+            ".",
+            "",
+            "1..2",
+            "1.2.3",
+            "-1",
+            "+1",
+            "1e3",
+            "1,5",
+            " 1",
+            "0x1",
+            "123456789012345",
+            "1234567890.12345",
+            "4503599627370497",
+        ]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+        for _ in 0..200_000 {
+            let len = rng.random_range(1..=20);
+            let mut t: String = (0..len)
+                .map(|_| char::from(b'0' + rng.random_range(0..10u8)))
+                .collect();
+            if rng.random_bool(0.7) {
+                t.insert(rng.random_range(0..=len), '.');
+            }
+            strings.push(t);
+        }
+        let mut fast = 0;
+        for s in &strings {
+            if let Some(x) = plain_decimal(s.as_bytes()) {
+                fast += 1;
+                let want = s.parse::<f64>().unwrap();
+                assert_eq!(x.to_bits(), want.to_bits(), "{s}");
+            }
+        }
+        for s in [
+            "0",
+            "12",
+            "0.1",
+            "2.675",
+            "999999999999999",
+            "0.00000000000001",
+        ] {
+            assert!(plain_decimal(s.as_bytes()).is_some(), "{s}");
+        }
+        for s in ["1.", ".5", "1e3", "-1", "9007199254740993", "1,5"] {
+            assert!(plain_decimal(s.as_bytes()).is_none(), "{s}");
+        }
+        assert!(fast > 100_000, "{fast}");
+    }
+
+    /// Blockwise byte counting against a plain count, across block edges
+    /// (255 bytes) and with every byte equal to the one counted.
+    #[test]
+    fn byte_counts_match_a_plain_count() {
+        for len in [0, 1, 254, 255, 256, 1000] {
+            let text: Vec<u8> = (0..len)
+                .map(|k| if k % 3 == 0 { b'\n' } else { b'a' })
+                .collect();
+            let plain = text.iter().filter(|&&b| b == b'\n').count();
+            assert_eq!(count_byte(&text, b'\n'), plain);
+            assert_eq!(count_byte(&vec![b'\n'; len], b'\n'), len);
+        }
+    }
+
+    /// The word of up to eight bytes against its definition: the bytes
+    /// copied into a zeroed buffer read as a little-endian integer, for
+    /// every length and byte values that tell positions apart.
+    #[test]
+    fn short_loads_match_a_zero_padded_copy() {
+        let bytes: Vec<u8> = (0..8u8).map(|k| 0x81 + 17 * k).collect();
+        for n in 0..=8 {
+            for start in 0..=(8 - n) {
+                let b = &bytes[start..start + n];
+                let mut w = [0u8; 8];
+                w[..n].copy_from_slice(b);
+                assert_eq!(load_short(b), u64::from_le_bytes(w), "{b:?}");
+            }
         }
     }
 

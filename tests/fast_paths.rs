@@ -396,3 +396,58 @@ fn huge_sparse_network_never_dense() {
     assert!(s.binary >= (dmax as f64).sqrt() * (1.0 - 1e-12));
     assert!(s.binary <= (net.links() as f64).sqrt());
 }
+
+/// The WNODF rank kernels (taken for dense storage and for the given order)
+/// against the definition (METHODS.md §2, Almeida-Neto & Ulrich 2011) and
+/// against the list kernels (`wnodf_lists`, the path before them), bit for
+/// bit, on 1, 2 and 3 threads: tables with few distinct weights (bands of
+/// counters), dozens (wider bands), hundreds of fractional ones (`k / 8`,
+/// Fenwick trees and the sorting route to ranks), and whole numbers above
+/// 2^16 (sorting route), with runs of equal weights, empty and duplicated
+/// rows and columns.
+#[test]
+fn wnodf_rank_kernels_equal_definition_and_lists() {
+    use nidus::metrics::wnodf::{wnodf_lists, wnodf_ranks};
+    for seed in 0..48u64 {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(5000 + seed);
+        let (m, n) = (rng.random_range(2..110), rng.random_range(2..110));
+        let fill: f64 = rng.random_range(0.05..0.95);
+        let top = [3u32, 40, 900, 1_000_000][(seed % 4) as usize];
+        let mut k = Array2::from_shape_fn((m, n), |_| {
+            if rng.random::<f64>() < fill {
+                rng.random_range(1..=top)
+            } else {
+                0
+            }
+        });
+        if m > 3 && seed % 3 == 1 {
+            k.row_mut(m / 2).fill(0);
+            let r = k.row(0).to_owned();
+            k.row_mut(m - 1).assign(&r);
+        }
+        if n > 3 && seed % 3 == 2 {
+            let c = k.column(1).to_owned();
+            k.column_mut(n - 1).assign(&c);
+        }
+        if k.iter().all(|&x| x == 0) {
+            k[[0, 0]] = 2;
+        }
+        // Weights k / 8 (exact in binary) order the cells as k does.
+        let scale = if top == 900 { 8.0 } else { 1.0 };
+        let w = k.mapv(|x| f64::from(x) / scale);
+        let net = Network::from_array(w.clone()).unwrap();
+        let csr = Csr::from_dense(w.view());
+        for order in [Order::Sorted, Order::Given] {
+            let want = wnodf_ref(&k, order);
+            for threads in [1, 2, 3] {
+                pool(threads).install(|| {
+                    let tag = format!("seed {seed} {order} {threads} threads");
+                    assert_eq!(wnodf(&net, order).ok(), want, "{tag}");
+                    assert_eq!(wnodf(&w.view(), order).ok(), want, "{tag} view");
+                    assert_eq!(wnodf_ranks(&csr, order).ok(), want, "{tag} ranks");
+                    assert_eq!(wnodf_lists(&net, order).ok(), want, "{tag} lists");
+                });
+            }
+        }
+    }
+}

@@ -62,7 +62,7 @@ pub struct MeasureArgs {
 }
 
 /// The most random starts of the temperature packing search accepted.
-pub const MAX_RESTARTS: usize = 10_000;
+pub const MAX_RESTARTS: usize = nidus::null::draws_file::MAX_RESTARTS;
 
 /// An index the user named in `--index` that could not be computed
 /// fails the file (exit 2); with the default set it is reported as not

@@ -2,13 +2,14 @@
 //! run prints. Files of `nidus null --save-draws` and of `nidus assess
 //! --save-draws` are told apart by their first line.
 
-use std::io;
+use std::io::{self, Read};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::Args;
 use nidus::analyses::assess::{is_part, merge_parts, parse_part};
-use nidus::null::{merge_runs, parse_draws};
+use nidus::null::accumulate::EXACT_DRAWS;
+use nidus::null::merge_stream::merge_files_with_limit;
 use nidus::Error;
 
 use super::null::{emit, header, render};
@@ -27,30 +28,43 @@ pub struct MergeArgs {
     /// (as `nidus assess --svg`) to PATH.
     #[arg(long, value_name = "PATH")]
     svg: Option<PathBuf>,
+    /// Draws kept exactly before the summaries turn to streaming statistics
+    /// (for tests; the same knob as `null`'s).
+    #[arg(long, hide = true, value_name = "N", default_value_t = EXACT_DRAWS)]
+    exact_draws: usize,
 }
 
 pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
-    let mut texts = Vec::new();
+    // The kind of each file from its first bytes: assessment parts are
+    // read whole, saved draws streamed.
+    let mut kinds = Vec::new();
     for p in &args.paths {
-        let text = std::fs::read_to_string(p).map_err(|source| Error::Io {
-            path: p.clone(),
-            source,
-        })?;
-        texts.push((p, text));
+        let mut start = Vec::new();
+        std::fs::File::open(p)
+            .and_then(|f| f.take(256).read_to_end(&mut start))
+            .map_err(|source| Error::Io {
+                path: p.clone(),
+                source,
+            })?;
+        kinds.push(is_part(&String::from_utf8_lossy(&start)));
     }
-    let assess = texts.iter().filter(|(_, t)| is_part(t)).count();
+    let assess = kinds.iter().filter(|&&k| k).count();
     let mut assessment = None;
     let text = if assess > 0 {
-        if assess < texts.len() {
-            let other = texts.iter().find(|(_, t)| !is_part(t)).expect("counted");
+        if assess < kinds.len() {
+            let other = kinds.iter().position(|&k| !k).expect("counted");
             return Err(Error::InvalidArgument(format!(
                 "{}: not an assessment part, but other files are; merge `null` draws and `assess` parts in separate calls",
-                other.0.display()
+                args.paths[other].display()
             )));
         }
         let mut parts = Vec::new();
-        for (p, t) in &texts {
-            parts.push(parse_part(t, p)?);
+        for p in &args.paths {
+            let t = std::fs::read_to_string(p).map_err(|source| Error::Io {
+                path: p.clone(),
+                source,
+            })?;
+            parts.push(parse_part(&t, p)?);
         }
         let merged = merge_parts(parts)?;
         if args.svg.is_some() {
@@ -65,18 +79,14 @@ pub fn run(args: MergeArgs) -> nidus::Result<ExitCode> {
                 "--svg of merge draws assessment figures; for null distributions run `nidus null --svg` without --shard".into(),
             ));
         }
-        let mut parts = Vec::new();
-        for (p, t) in &texts {
-            parts.extend(parse_draws(t, p)?);
-        }
-        let runs = merge_runs(parts)?;
+        let runs = merge_files_with_limit(&args.paths, args.exact_draws)?;
         let mut text = header(args.format)?.unwrap_or_default();
         for r in &runs {
             text += &render(
                 args.format,
                 &r.file,
-                (&r.run, r.run.draw_ids.len()),
-                &r.run.summaries()?,
+                (&r.run, r.summaries.draws()),
+                &r.summaries.summaries()?,
             )?;
         }
         text

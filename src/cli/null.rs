@@ -14,9 +14,11 @@ use nidus::figures::{null_figure, NullPanel};
 use nidus::index::Direction;
 use nidus::index::IndexKind;
 use nidus::null::{
-    draws_file::{differing_setting, MAX_DRAWS},
-    read_draws, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions, NullRun,
-    SavedRun, SectionWriter, Shard,
+    accumulate::EXACT_DRAWS,
+    draws_file::{differing_setting, MAX_DRAWS, MAX_RESTARTS},
+    merge_stream::index_file,
+    packs_temperature, run_null_streaming, DrawSummaries, NullConfig, NullModel, NullOptions,
+    NullRun, SectionIndex, SectionWriter, Shard,
 };
 use nidus::significance::{summarize, NullSummary};
 use nidus::{Error, Order};
@@ -73,6 +75,10 @@ pub struct NullArgs {
     /// Row and column order for NODF and WNODF: sorted or given.
     #[arg(long, default_value = "sorted", value_name = "sorted|given")]
     order: Order,
+    /// Temperature: random starts of the packing search besides the degree-sorted one, on the
+    /// observed network and on every draw (default 4; 0 is the cheapest packing).
+    #[arg(long, value_name = "N")]
+    restarts: Option<usize>,
     #[command(flatten)]
     input: LayoutArgs,
     /// Output format.
@@ -82,6 +88,10 @@ pub struct NullArgs {
     /// to PATH (with several files: PATH's name with each file's name inserted).
     #[arg(long, value_name = "PATH")]
     svg: Option<PathBuf>,
+    /// Draws kept exactly before the summaries turn to streaming statistics
+    /// (for tests of merges and resumed runs past the limit on few draws).
+    #[arg(long, hide = true, value_name = "N", default_value_t = EXACT_DRAWS)]
+    exact_draws: usize,
 }
 
 /// One JSON line or CSV row of a null test: the run's identity, then the
@@ -109,6 +119,9 @@ struct NullLine<'a> {
     order: Order,
     /// Curveball trades per draw (`fixed-both` only).
     burn_in: Option<usize>,
+    /// Random starts of the temperature packing search (`temperature`
+    /// tested only).
+    restarts: Option<usize>,
     /// Draws asked for (`--draws`).
     draws_requested: usize,
     /// Draws computed (all of them, or fewer after a sequential stop).
@@ -126,6 +139,7 @@ struct Settings {
     seed: u64,
     order: Order,
     burn_in: Option<usize>,
+    restarts: Option<usize>,
     draws_requested: usize,
     draws_done: usize,
     stop_after: Option<usize>,
@@ -140,6 +154,7 @@ impl Settings {
             seed: run.seed,
             order: run.order,
             burn_in: run.burn_in,
+            restarts: run.restarts,
             draws_requested: run.draws,
             draws_done: done,
             stop_after: run.stop_after,
@@ -193,6 +208,7 @@ fn line(
         p_reason,
         order: set.order,
         burn_in: set.burn_in,
+        restarts: set.restarts,
         draws_requested: set.draws_requested,
         draws_done: set.draws_done,
         stop_after: set.stop_after,
@@ -210,6 +226,7 @@ fn csv_table() -> nidus::Result<FlatTable> {
         seed: 0,
         order: Order::Sorted,
         burn_in: Some(1),
+        restarts: Some(1),
         draws_requested: 2,
         draws_done: 2,
         stop_after: Some(1),
@@ -254,13 +271,16 @@ pub fn render(
             String::new()
         };
         s += &format!(
-            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
+            "{file}\n  null model {}, seed {}, {} draws requested{done}, order {} (for NODF and WNODF){}{}{}\n  {:<24} {:>10} {:>10} {:>9} {:>7} {:>7}  {:<25} {:>6}  observed vs null mean\n",
             run.model,
             run.seed,
             run.draws,
             run.order.name(),
             run.burn_in.map_or(String::new(), |b| format!(
                 ", {b} curveball trades per draw"
+            )),
+            run.restarts.map_or(String::new(), |r| format!(
+                ", temperature packing with {r} random restarts"
             )),
             run.stop_after.map_or(String::new(), |h| format!(
                 ", sequential stop after {h} draws at least as nested"
@@ -462,12 +482,20 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             if args.row_lists {
                 config.options.lists = Some(true);
             }
+            if let Some(r) = args.restarts {
+                config.restarts = r;
+            }
             config.check().map(|()| config)
         })
         .collect::<nidus::Result<_>>()?;
     if args.burn_in.is_some() && !args.model.0.contains(&NullModel::FixedBoth) {
         eprintln!(
             "nidus: note: --burn-in applies only to fixed-both; the models asked for do not use it"
+        );
+    }
+    if args.restarts.is_some() && !packs_temperature(&args.index.0) {
+        eprintln!(
+            "nidus: note: --restarts applies only to the packed temperature; the indices asked for do not use it"
         );
     }
     if args.shard.is_some() && args.svg.is_some() {
@@ -501,9 +529,12 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
         }
     }
     // Sections of an interrupted run to continue, by (file, model).
-    let mut resumed: HashMap<(String, NullModel), SavedRun> = HashMap::new();
+    // Every section is checked now (a damaged file, or a gap in its draw
+    // numbers, is refused before anything runs); the draws are read again
+    // when their run starts.
+    let mut resumed: HashMap<(String, NullModel), SectionIndex> = HashMap::new();
     if let Some(p) = &args.resume {
-        for r in read_draws(p)? {
+        for r in index_file(p)? {
             resumed.insert((r.file.clone(), r.run.model), r);
         }
     }
@@ -528,10 +559,7 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
                 None => args.draws,
             };
             let earlier = resumed.remove(&(shown.clone(), model));
-            let start = earlier
-                .as_ref()
-                .and_then(|r| r.run.draw_ids.last())
-                .map_or(0, |&k| k + 1);
+            let start = earlier.as_ref().map_or(0, |r| r.next_draw());
             let progress = Progress::new(share, &format!("{shown} ({model})"));
             let target = saved.as_ref().map(|f| f.target().to_path_buf());
             let write_err = |source: io::Error| Error::Write {
@@ -545,8 +573,14 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             let mut run_head: Option<NullRun> = None;
             let mut sink = |head: &NullRun, k: u64, v: &[f64]| -> nidus::Result<bool> {
                 if acc.is_none() {
-                    let (a, sec) = begin(head, &shown, earlier.as_ref(), writer.take())
-                        .map_err(|e| e.into_error(&write_err))?;
+                    let (a, sec) = begin(
+                        head,
+                        &shown,
+                        earlier.as_ref(),
+                        writer.take(),
+                        args.exact_draws,
+                    )
+                    .map_err(|e| e.into_error(&write_err))?;
                     acc = Some(a);
                     section = sec;
                     run_head = Some(head.clone());
@@ -581,7 +615,13 @@ pub fn run(args: NullArgs) -> nidus::Result<ExitCode> {
             };
             // Every draw was saved before (a resumed run that had finished).
             if acc.is_none() {
-                match begin(&head, &shown, earlier.as_ref(), writer.take()) {
+                match begin(
+                    &head,
+                    &shown,
+                    earlier.as_ref(),
+                    writer.take(),
+                    args.exact_draws,
+                ) {
                     Ok((a, sec)) => {
                         acc = Some(a);
                         section = sec;
@@ -716,6 +756,12 @@ enum BeginError {
     Write(io::Error),
 }
 
+impl From<Error> for BeginError {
+    fn from(e: Error) -> Self {
+        BeginError::Input(e)
+    }
+}
+
 impl BeginError {
     fn into_error(self, write: &impl Fn(io::Error) -> Error) -> Error {
         match self {
@@ -731,11 +777,12 @@ impl BeginError {
 fn begin<'w, W: io::Write>(
     head: &NullRun,
     shown: &str,
-    earlier: Option<&SavedRun>,
+    earlier: Option<&SectionIndex>,
     writer: Option<&'w mut W>,
+    exact: usize,
 ) -> Result<(DrawSummaries, Option<SectionWriter<'w, W>>), BeginError> {
     let dirs = head.indices.iter().map(|k| k.more_nested()).collect();
-    let mut acc = DrawSummaries::new(head.observed.clone(), dirs, head.stop_after);
+    let mut acc = DrawSummaries::with_limit(head.observed.clone(), dirs, head.stop_after, exact);
     let mut section = match writer {
         Some(w) => Some(SectionWriter::begin(head, shown, w).map_err(BeginError::Write)?),
         None => None,
@@ -754,12 +801,14 @@ fn begin<'w, W: io::Write>(
                 head.model
             ))));
         }
-        for (&k, v) in e.run.draw_ids.iter().zip(&e.run.values) {
+        // Streamed from the file, line by line, checked again.
+        e.replay(|k, v| {
             acc.push(v);
-            if let Some(sec) = section.as_mut() {
-                sec.draw(k, v).map_err(BeginError::Write)?;
+            match section.as_mut() {
+                Some(sec) => sec.draw(k, v).map_err(BeginError::Write),
+                None => Ok(()),
             }
-        }
+        })?;
     }
     Ok((acc, section))
 }
@@ -772,6 +821,12 @@ fn check_bounds(args: &NullArgs) -> nidus::Result<()> {
         return Err(Error::InvalidArgument(format!(
             "--draws {}: at most {MAX_DRAWS} draws per run (split larger runs over seeds)",
             args.draws
+        )));
+    }
+    if let Some(r) = args.restarts.filter(|&r| r > MAX_RESTARTS) {
+        return Err(Error::InvalidArgument(format!(
+            "--restarts {r}: at most {MAX_RESTARTS} random starts (each is a full packing search, \
+             on every draw)"
         )));
     }
     if let Some(s) = args.shard {

@@ -21,6 +21,9 @@ struct Slot {
 /// three places far apart per lookup, which dominated reading time.
 pub(super) struct LabelIndex {
     slots: Vec<Slot>,
+    /// The [`label_hash`] of label `k`, so that growing the table does not
+    /// hash the labels again.
+    hashes: Vec<u64>,
     arena: String,
     /// End of label `k` in `arena`; it starts where label `k - 1` ends.
     ends: Vec<usize>,
@@ -29,10 +32,29 @@ pub(super) struct LabelIndex {
 /// The first (up to) eight bytes of `b`, little-endian, zero padded.
 #[inline]
 fn head_word(b: &[u8]) -> u64 {
-    let mut w = [0u8; 8];
-    let k = b.len().min(8);
-    w[..k].copy_from_slice(&b[..k]);
-    u64::from_le_bytes(w)
+    load_short(&b[..b.len().min(8)])
+}
+
+/// The bytes of `b` (at most eight) as a little-endian word, zero padded:
+/// byte `k` of `b` is bits `8k..8k + 8`. Built from loads of four bytes
+/// (two overlapping ones for 4-7 bytes) or of single bytes (first, middle
+/// and last for 1-3 bytes): a copy into a zeroed buffer is a library call
+/// and a store the next load cannot take its value from.
+#[inline]
+pub(super) fn load_short(b: &[u8]) -> u64 {
+    let n = b.len();
+    debug_assert!(n <= 8);
+    if n == 8 {
+        u64::from_le_bytes([b[0], b[1], b[2], b[3], b[4], b[5], b[6], b[7]])
+    } else if n >= 4 {
+        let lo = u32::from_le_bytes([b[0], b[1], b[2], b[3]]) as u64;
+        let hi = u32::from_le_bytes([b[n - 4], b[n - 3], b[n - 2], b[n - 1]]) as u64;
+        lo | (hi << (8 * (n - 4)))
+    } else if n > 0 {
+        (b[0] as u64) | ((b[n / 2] as u64) << (8 * (n / 2))) | ((b[n - 1] as u64) << (8 * (n - 1)))
+    } else {
+        0
+    }
 }
 
 /// The slot tag of a label with hash `hash` and `len` bytes.
@@ -45,6 +67,7 @@ impl LabelIndex {
     pub(super) fn new() -> Self {
         LabelIndex {
             slots: vec![Slot::default(); 1024],
+            hashes: Vec::new(),
             arena: String::new(),
             ends: Vec::new(),
         }
@@ -55,11 +78,26 @@ impl LabelIndex {
         &self.arena[start..self.ends[k]]
     }
 
-    /// Reads the first slot where a label of hash `hash` would be (to bring
-    /// it into cache).
+    /// Starts bringing the first slot where a label of hash `hash` would be
+    /// into cache: a prefetch on x86_64 (it retires at once, so a batch of
+    /// them keeps many misses in flight, TLB walks included), elsewhere a
+    /// plain read of the slot.
     #[inline]
     fn peek(&self, hash: u64) -> u32 {
-        self.slots[hash as usize & (self.slots.len() - 1)].id1
+        let slot = &self.slots[hash as usize & (self.slots.len() - 1)];
+        #[cfg(target_arch = "x86_64")]
+        {
+            // SAFETY: SSE is part of every x86_64 target, and a prefetch
+            // of a valid address reads nothing the program sees.
+            unsafe {
+                std::arch::x86_64::_mm_prefetch::<{ std::arch::x86_64::_MM_HINT_T0 }>(
+                    (slot as *const Slot).cast::<i8>(),
+                );
+            }
+            0
+        }
+        #[cfg(not(target_arch = "x86_64"))]
+        slot.id1
     }
 
     /// The index of `label` (whose [`label_hash`] is `hash`), adding it when
@@ -88,6 +126,7 @@ impl LabelIndex {
         let id1 = u32::try_from(self.ends.len() + 1).ok()?;
         self.arena.push_str(label);
         self.ends.push(self.arena.len());
+        self.hashes.push(hash);
         self.slots[pos] = Slot { head, tag, id1 };
         if 4 * self.ends.len() > 3 * self.slots.len() {
             self.grow();
@@ -100,7 +139,7 @@ impl LabelIndex {
         let mut slots = vec![Slot::default(); 2 * self.slots.len()];
         let mask = slots.len() - 1;
         for s in self.slots.iter().filter(|s| s.id1 != 0) {
-            let hash = label_hash(self.label(s.id1 as usize - 1).as_bytes());
+            let hash = self.hashes[s.id1 as usize - 1];
             let mut pos = hash as usize & mask;
             while slots[pos].id1 != 0 {
                 pos = (pos + 1) & mask;
@@ -122,8 +161,8 @@ const LOOKUP_BATCH: usize = 256;
 
 /// Turns a batch of `(row label, column label, weight)` into entries, in
 /// order. Label lookups are memory-bound (one cache miss each on a large
-/// table), so the slots of the whole batch are first read in one loop of
-/// independent loads, which the processor overlaps, then looked up.
+/// table), so the slots of the whole batch are first prefetched in one loop
+/// (see [`LabelIndex::peek`]), which the processor overlaps, then looked up.
 fn resolve_batch(
     batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
     chunk: &mut EdgeLines,
@@ -164,20 +203,24 @@ pub(super) fn label_hash(bytes: &[u8]) -> u64 {
     let mut h = 0u64;
     let mut chunks = bytes.chunks_exact(8);
     for c in &mut chunks {
-        let mut w = [0u8; 8];
-        w.copy_from_slice(c);
-        h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+        h = (h.rotate_left(5) ^ load_short(c)).wrapping_mul(K);
     }
-    let rest = chunks.remainder();
-    let mut w = [0u8; 8];
-    w[..rest.len()].copy_from_slice(rest);
-    h = (h.rotate_left(5) ^ u64::from_le_bytes(w)).wrapping_mul(K);
+    h = (h.rotate_left(5) ^ load_short(chunks.remainder())).wrapping_mul(K);
     h ^= bytes.len() as u64;
     h ^= h >> 33;
     h = h.wrapping_mul(0xFF51_AFD7_ED55_8CCD);
     h ^= h >> 33;
     h = h.wrapping_mul(0xC4CE_B9FE_1A85_EC53);
     h ^ (h >> 33)
+}
+
+/// How many bytes of `b` equal `x`: counted in byte-wide lanes over blocks
+/// of 255 bytes (so no lane overflows), which compilers turn into vector
+/// compares.
+pub(super) fn count_byte(b: &[u8], x: u8) -> usize {
+    b.chunks(255)
+        .map(|c| c.iter().fold(0u8, |n, &y| n + u8::from(y == x)) as usize)
+        .sum()
 }
 
 /// The edge lines of a file, with labels indexed.
@@ -203,7 +246,7 @@ fn edge_lines<'a>(
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
-    let lines_guess = fields.text.bytes().filter(|&b| b == b'\n').count() + 1;
+    let lines_guess = count_byte(fields.text.as_bytes(), b'\n') + 1;
     let mut chunk = EdgeLines {
         rows: LabelIndex::new(),
         cols: LabelIndex::new(),

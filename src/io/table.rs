@@ -48,7 +48,8 @@ impl Table {
             TableCells::Dense(a) => Network::from_dense(a, self.rows, self.cols),
             TableCells::Triplets(e) => {
                 check_sums(&self.rows, &self.cols, &e)?;
-                Network::from_triplets(self.rows, self.cols, e)
+                // Interned labels: distinct on each side by construction.
+                Network::from_triplets_distinct(self.rows, self.cols, e)
             }
         }
     }

@@ -460,7 +460,7 @@ impl UnexpectednessTable {
     }
 
     fn to_t(&self, total: f64) -> f64 {
-        100.0 * total / (self.m as f64 * self.n as f64 * U_MAX)
+        to_t(self.m, self.n, total)
     }
 }
 
@@ -532,13 +532,105 @@ pub(crate) fn packed(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
     Ok(t.packed.unwrap_or(t.sorted))
 }
 
-/// Registry evaluator of `temperature-sorted` (no packing search).
-pub(crate) fn sorted(v: &dyn NetView, o: &IndexOptions) -> Result<f64> {
-    let opts = TemperatureOptions {
-        pack: false,
-        ..o.temperature
-    };
-    Ok(temperature(v, &opts)?.sorted)
+/// Registry evaluator of `temperature-sorted` (no packing search): the
+/// same value as [`temperature`]`(..).sorted`, bit for bit, computed by
+/// [`sorted_of_bits`].
+pub(crate) fn sorted(v: &dyn NetView, _o: &IndexOptions) -> Result<f64> {
+    check_size(v.nrows(), v.ncols())?;
+    sorted_of_bits(&*v.bits()?)
+}
+
+/// `T` of `b` in the degree-sorted order, as [`temperature`] gives it.
+///
+/// Draws of a model that keeps the number of ones `L` reuse the table of
+/// the thread's last matrix ([`temperature_of_bits`]). When `L` changes
+/// (equiprobable and proportional draws), building a new table would cost
+/// a root solve for every cell; instead each cell's side of the isocline is
+/// read from `a^p + b^p` (one power per row and per column) and only the
+/// unexpected cells, a presence outside the presence region or an absence
+/// inside it, get their root solve. Every value is computed by the same
+/// expressions as the table's and summed in the same order (the skipped
+/// cells add `+0`), so the result equals the table's bit for bit. The table
+/// is built (and kept) again once two matrices in a row have the same shape
+/// and `L`.
+pub(crate) fn sorted_of_bits(b: &BitMatrix) -> Result<f64> {
+    let key = (b.nrows(), b.ncols(), b.count_ones());
+    check_size(key.0, key.1)?;
+    let cached = LAST_TABLE.with(|c| {
+        c.borrow()
+            .as_ref()
+            .filter(|t| (t.m, t.n, t.links) == key)
+            .cloned()
+    });
+    let rows = degree_order(&b.row_degrees());
+    let cols = degree_order(&b.col_degrees());
+    if let Some(table) = cached {
+        return Ok(table.to_t(table.total(b, &rows, &cols)));
+    }
+    let repeated = LAST_KEY.with(|k| k.replace(Some(key)) == Some(key));
+    if repeated && key.0 * key.1 <= TABLE_CACHE_CELLS {
+        let table = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
+        LAST_TABLE.with(|c| *c.borrow_mut() = Some(table.clone()));
+        return Ok(table.to_t(table.total(b, &rows, &cols)));
+    }
+    Ok(to_t(key.0, key.1, unexpected_total(b, &rows, &cols)))
+}
+
+/// `sum(u)` of `b` with position `(i, j)` holding cell `(rows[i], cols[j])`:
+/// [`UnexpectednessTable::total`] without the table, root solves only for
+/// the unexpected cells (see [`sorted_of_bits`]). Rows are summed in
+/// parallel, their sums added in row order.
+///
+/// Cost: `O(m n)` additions plus one root solve per unexpected cell.
+#[doc(hidden)]
+pub fn unexpected_total(b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
+    let (m, n) = (b.nrows(), b.ncols());
+    let cells = m * n;
+    let links = b.count_ones();
+    if links == 0 || links == cells {
+        return 0.0; // the table is all zeros
+    }
+    let p = isocline_p(links as f64 / cells as f64);
+    // Per column: x, a = 1 - x and a^p, as the table's loop computes them.
+    let xs: Vec<(f64, f64, f64)> = (0..n)
+        .map(|j| {
+            let x = (j as f64 + 0.5) / n as f64;
+            let a = 1.0 - x;
+            (x, a, a.powf(p))
+        })
+        .collect();
+    let sums: Vec<f64> = (0..m)
+        .into_par_iter()
+        .map(|i| {
+            let y = (i as f64 + 0.5) / m as f64;
+            let bb = 1.0 - y;
+            let bp = bb.powf(p);
+            let row = b.row(rows[i]);
+            let mut s = 0.0;
+            for (&c, &(x, a, ap)) in cols.iter().zip(&xs) {
+                let level = ap + bp;
+                if level == 1.0 {
+                    continue; // on the isocline: nothing is unexpected
+                }
+                let present = (row[c / 64] >> (c % 64)) & 1 == 1;
+                if present == (level > 1.0) {
+                    continue; // expected: u = 0
+                }
+                let r = crossing(a, bb, p) / (1.0 - (x - y).abs());
+                s += r * r;
+            }
+            s
+        })
+        .collect();
+    let mut total = 0.0;
+    for s in sums {
+        total += s;
+    }
+    total
+}
+
+fn to_t(m: usize, n: usize, total: f64) -> f64 {
+    100.0 * total / (m as f64 * n as f64 * U_MAX)
 }
 
 /// [`temperature`] of a bit-packed binary matrix (null-model draws).
@@ -579,6 +671,9 @@ pub const TABLE_CACHE_CELLS: usize = 1 << 20;
 thread_local! {
     static LAST_TABLE: std::cell::RefCell<Option<std::sync::Arc<UnexpectednessTable>>> =
         const { std::cell::RefCell::new(None) };
+    /// Shape and `L` of the last matrix [`sorted_of_bits`] saw.
+    static LAST_KEY: std::cell::Cell<Option<(usize, usize, usize)>> =
+        const { std::cell::Cell::new(None) };
 }
 
 /// [`temperature`] of a bit matrix with a table built beforehand (it must
@@ -590,7 +685,7 @@ pub fn temperature_with_table(
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
 ) -> Result<Temperature> {
-    with_table(b, table, opts, false)
+    with_table(b, table, opts, CostLoop::Lanes)
 }
 
 /// [`temperature_with_table`] with the packing search's cost tables built
@@ -602,14 +697,43 @@ pub fn temperature_with_table_direct_gathers(
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
 ) -> Result<Temperature> {
-    with_table(b, table, opts, true)
+    with_table(b, table, opts, CostLoop::Direct)
 }
+
+/// [`temperature_with_table`] with the packing search's cost tables built
+/// by the blocked loop that adds into the table in memory (the loop before
+/// the register lanes; same result, bit for bit). Kept for side-by-side
+/// timing; not part of the API.
+#[doc(hidden)]
+pub fn temperature_with_table_blocked(
+    b: &BitMatrix,
+    table: &UnexpectednessTable,
+    opts: &TemperatureOptions,
+) -> Result<Temperature> {
+    with_table(b, table, opts, CostLoop::Blocked)
+}
+
+/// How the packing search builds its cost tables; every loop gives the
+/// same table bit for bit (the other two are kept for timing and tests).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum CostLoop {
+    /// A gather over the members' positions for each entry.
+    Direct,
+    /// Contiguous additions into the table, a block of positions at a time.
+    Blocked,
+    /// Sums of [`LANES`] positions (twice as many with AVX2) kept in
+    /// registers while the members' rows are added (the default).
+    Lanes,
+}
+
+/// Positions summed together in registers by [`CostLoop::Lanes`].
+const LANES: usize = 16;
 
 fn with_table(
     b: &BitMatrix,
     table: &UnexpectednessTable,
     opts: &TemperatureOptions,
-    direct: bool,
+    how: CostLoop,
 ) -> Result<Temperature> {
     let (m, n) = (b.nrows(), b.ncols());
     let links = b.count_ones();
@@ -643,7 +767,7 @@ fn with_table(
             (sorted_total, sorted_rows, sorted_cols),
             opts,
             true,
-            direct,
+            how,
         );
         (Some(table.to_t(best.0)), best.1, best.2)
     } else {
@@ -705,12 +829,12 @@ struct Packer<'a> {
     delta: Vec<f64>,
     /// `delta_t[j m + i]` = the same, transposed.
     delta_t: Vec<f64>,
-    /// Build cost tables by the direct gather loop (timing and tests only).
-    direct: bool,
+    /// The loop that builds cost tables.
+    how: CostLoop,
 }
 
 impl<'a> Packer<'a> {
-    fn new(b: &'a BitMatrix, table: &'a UnexpectednessTable, direct: bool) -> Self {
+    fn new(b: &'a BitMatrix, table: &'a UnexpectednessTable, how: CostLoop) -> Self {
         let (m, n) = (b.nrows(), b.ncols());
         let row_ones: Vec<Vec<usize>> = (0..m).map(|i| b.row_ones(i).collect()).collect();
         let mut col_ones = vec![Vec::new(); n];
@@ -738,7 +862,7 @@ impl<'a> Packer<'a> {
             col_ones,
             delta,
             delta_t,
-            direct,
+            how,
         }
     }
 
@@ -756,18 +880,25 @@ impl<'a> Packer<'a> {
     /// stays in cache). Each entry is the same sum in the same order as a
     /// gather over `pos(c)` for each position, so the table is bit for bit
     /// that of the direct loop.
+    ///
+    /// [`CostLoop::Lanes`] (the default) goes through the same blocks, but
+    /// for each item and each run of [`LANES`] positions keeps the sums in
+    /// registers while the members' rows are added (the blocked loop loads
+    /// and stores the table entry at every addition, which bounded its
+    /// speed); each entry is still `zero + d_1 + d_2 + ...` in the order of
+    /// `ones[r]`, so the table is the same bit for bit.
     fn best_side(
         ones: &[Vec<usize>],
         other_pos: &[usize],
-        by_other: &[f64],
+        (by_other, by_this): (&[f64], &[f64]),
         cost: &mut Vec<f64>,
         work: &mut Workspace,
-        direct: Option<&[f64]>,
+        how: CostLoop,
     ) -> Vec<usize> {
         let k = ones.len();
         cost.clear();
         cost.resize(k * k, 0.0);
-        if let Some(by_this) = direct {
+        if how == CostLoop::Direct {
             legacy_cost(ones, other_pos, by_this, by_other.len() / k.max(1), cost);
             return Self::order_from(work.solve_from(cost, k, true));
         }
@@ -781,6 +912,13 @@ impl<'a> Packer<'a> {
         // matrices take several).
         const BLOCK_CELLS: usize = if cfg!(test) { 256 } else { 32_768 };
         let block = (BLOCK_CELLS / width.max(1)).clamp(16, k.max(16));
+        // Whole runs of register lanes per block (any blocking gives the
+        // same entries).
+        let block = if how == CostLoop::Lanes {
+            block.div_ceil(2 * LANES) * (2 * LANES)
+        } else {
+            block
+        };
         let mut at: Vec<usize> = Vec::new();
         let mut starts = Vec::with_capacity(k + 1);
         starts.push(0);
@@ -791,9 +929,14 @@ impl<'a> Packer<'a> {
         for i0 in (0..k).step_by(block) {
             let i1 = (i0 + block).min(k);
             for (r, out) in cost.chunks_exact_mut(k).enumerate() {
+                let qs = &at[starts[r]..starts[r + 1]];
+                if how == CostLoop::Lanes {
+                    lane_sums(qs, by_other, zero, (i0, i1), out);
+                    continue;
+                }
                 let out = &mut out[i0..i1];
                 out.fill(zero);
-                for &q in &at[starts[r]..starts[r + 1]] {
+                for &q in qs {
                     let src = &by_other[q + i0..q + i1];
                     for (o, &x) in out.iter_mut().zip(src) {
                         *o += x;
@@ -825,10 +968,10 @@ impl<'a> Packer<'a> {
         Self::best_side(
             &self.row_ones,
             &pos,
-            &self.delta_t,
+            (&self.delta_t, &self.delta),
             cost,
             work,
-            self.direct.then_some(&self.delta[..]),
+            self.how,
         )
     }
 
@@ -837,10 +980,10 @@ impl<'a> Packer<'a> {
         Self::best_side(
             &self.col_ones,
             &pos,
-            &self.delta,
+            (&self.delta, &self.delta_t),
             cost,
             work,
-            self.direct.then_some(&self.delta_t[..]),
+            self.how,
         )
     }
 
@@ -900,6 +1043,64 @@ impl<'a> Packer<'a> {
             }
         });
         best
+    }
+}
+
+/// Entries `i0..i1` of one item's cost row:
+/// `out[i] = zero + by_other[q_1 + i] + by_other[q_2 + i] + ...` over `qs` in order, `W` positions at a time
+/// with the running sums in a local array (kept in registers), the
+/// positions past the last whole run one by one. On x86-64 the same loop
+/// is compiled for AVX2 and used when the CPU has it (additions of the same
+/// numbers in the same order: the same bits).
+fn lane_sums(qs: &[usize], by_other: &[f64], zero: f64, span: (usize, usize), out: &mut [f64]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports avx2 (checked).
+            return unsafe { lane_sums_avx2(qs, by_other, zero, span, out) };
+        }
+    }
+    lane_body::<LANES>(qs, by_other, zero, span, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn lane_sums_avx2(
+    qs: &[usize],
+    by_other: &[f64],
+    zero: f64,
+    span: (usize, usize),
+    out: &mut [f64],
+) {
+    lane_body::<{ 2 * LANES }>(qs, by_other, zero, span, out)
+}
+
+#[inline(always)]
+fn lane_body<const W: usize>(
+    qs: &[usize],
+    by_other: &[f64],
+    zero: f64,
+    (i0, i1): (usize, usize),
+    out: &mut [f64],
+) {
+    let mut i = i0;
+    while i + W <= i1 {
+        let mut acc = [zero; W];
+        for &q in qs {
+            let src: &[f64; W] = by_other[q + i..q + i + W].try_into().expect("W values");
+            for (a, &x) in acc.iter_mut().zip(src) {
+                *a += x;
+            }
+        }
+        out[i..i + W].copy_from_slice(&acc);
+        i += W;
+    }
+    for (ii, o) in out.iter_mut().enumerate().take(i1).skip(i) {
+        let mut a = zero;
+        for &q in qs {
+            a += by_other[q + ii];
+        }
+        *o = a;
     }
 }
 
@@ -996,14 +1197,14 @@ fn pack(
     sorted: Candidate,
     opts: &TemperatureOptions,
     allow_exact: bool,
-    direct: bool,
+    how: CostLoop,
 ) -> Candidate {
     let (m, n) = (b.nrows(), b.ncols());
     let links = table.links;
     if links == 0 || links == m * n || sorted.0 == 0.0 {
         return sorted; // nothing can be lower than 0
     }
-    let packer = Packer::new(b, table, direct);
+    let packer = Packer::new(b, table, how);
     if allow_exact && packing_is_exact(m, n, links) {
         return if m <= n {
             packer.exhaust_rows(sorted)

@@ -18,6 +18,7 @@
 //! # stop_after  none
 //! # burn_in  1000
 //! # order  sorted
+//! # restarts  none
 //! # shape  200  200  4000
 //! # network  5d1c0a8f3b2e4c71
 //! # indices  nodf  nodf-rows
@@ -29,7 +30,10 @@
 //! ```
 //!
 //! `draws` is the number requested for the whole run; `shard` is `I/K` or
-//! `none`; `shape` is rows, columns and links of the observed network;
+//! `none`; `restarts` is the number of random starts of the packing search
+//! of `temperature`, or `none` when that index is not tested (files written
+//! before this line existed lack it: a missing line reads as the default of
+//! those versions, 4 restarts when `temperature` is tested); `shape` is rows, columns and links of the observed network;
 //! `network` its content fingerprint ([`fingerprint`]), by which `merge`
 //! matches the parts of one run (not by the file's name as spelled).
 //! Numbers are written in Rust's shortest round-trip form, so reading gives
@@ -53,7 +57,7 @@ use std::path::Path;
 use crate::error::{Error, Result};
 use crate::index::IndexKind;
 use crate::metrics::Order;
-use crate::null::run::{NullRun, Shard};
+use crate::null::run::{packs_temperature, NullRun, Shard};
 use crate::null::NullModel;
 
 const MAGIC: &str = "# nidus null draws";
@@ -63,6 +67,14 @@ const VERSION: &str = "2";
 /// a run is split into) that nidus accepts, on the command line and in a
 /// saved-draws file: 10^9.
 pub const MAX_DRAWS: usize = 1_000_000_000;
+
+/// The most random starts of the temperature packing search that nidus
+/// accepts, on the command line and in a saved-draws file: 10,000.
+pub const MAX_RESTARTS: usize = 10_000;
+
+/// The restarts of a section that has no `# restarts` line (written before
+/// the line existed, when every run used the default).
+const OLD_DEFAULT_RESTARTS: usize = 4;
 
 /// 64-bit FNV-1a (Fowler, Noll & Vo; offset basis 0xcbf29ce484222325,
 /// prime 0x100000001b3 as in IETF draft-eastlake-fnv), fed in pieces.
@@ -214,6 +226,7 @@ impl<'w, W: Write> SectionWriter<'w, W> {
         s.push_str(&format!("# stop_after\t{}\n", opt(run.stop_after)));
         s.push_str(&format!("# burn_in\t{}\n", opt(run.burn_in)));
         s.push_str(&format!("# order\t{}\n", run.order));
+        s.push_str(&format!("# restarts\t{}\n", opt(run.restarts)));
         let (m, n, l) = run.shape;
         s.push_str(&format!("# shape\t{m}\t{n}\t{l}\n"));
         s.push_str(&format!("# network\t{:016x}\n", run.network));
@@ -263,206 +276,322 @@ impl<'w, W: Write> SectionWriter<'w, W> {
     }
 }
 
-/// Reads every section of a saved-draws file.
+/// The longest line a saved-draws file may hold: 1 MiB (a draw line of
+/// every built-in index is under 1 KiB). A longer line is refused before
+/// it is held in memory.
+pub const MAX_LINE: usize = 1 << 20;
+
+/// Reads every section of a saved-draws file, with all its draws (memory
+/// `O(draws)`; [`crate::null::merge_stream`] reads parts in bounded
+/// memory).
 pub fn read_draws(path: &Path) -> Result<Vec<SavedRun>> {
-    let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
+    let file = std::fs::File::open(path).map_err(|source| Error::Io {
         path: path.into(),
         source,
     })?;
-    parse_draws(&text, path)
+    read_all(LineReader::new(
+        path,
+        std::io::BufReader::with_capacity(1 << 16, file),
+    ))
 }
 
-struct Lines<'a> {
-    path: &'a Path,
-    lines: std::iter::Peekable<std::iter::Enumerate<std::str::Lines<'a>>>,
+/// The lines of a saved-draws file read one at a time from any reader:
+/// each at most [`MAX_LINE`] bytes and UTF-8, refused otherwise naming the
+/// line (and, for bytes that are not UTF-8, the column). Keeps the line
+/// number, the byte offset of the next line and the running checksum of
+/// the current section.
+pub(crate) struct LineReader<R> {
+    path: std::path::PathBuf,
+    r: R,
+    buf: Vec<u8>,
+    /// Length of the current line without its line break.
+    len: usize,
+    /// Number of the current line (1-based; 0 before any).
+    pub(crate) no: usize,
+    /// Byte offset of the start of the next line.
+    pub(crate) pos: u64,
     /// Checksum of the current section's lines so far.
-    sum: Fnv1a,
-    /// Number of the last line read (1-based; 0 before any).
-    last: usize,
+    pub(crate) sum: Fnv1a,
 }
 
-impl<'a> Lines<'a> {
-    /// The next line (1-based number), added to the section's checksum.
-    fn next_line(&mut self) -> Option<(usize, &'a str)> {
-        let (no, line) = self.lines.next()?;
-        self.last = no + 1;
-        self.sum.write(line.as_bytes());
-        self.sum.write(b"\n");
-        Some((no + 1, line))
+impl<R: std::io::BufRead> LineReader<R> {
+    /// A reader at the start of `r`.
+    pub(crate) fn new(path: &Path, r: R) -> Self {
+        Self::at(path, r, 0, 0, Fnv1a::default())
     }
-    fn err(&self, line: usize, column: Option<usize>, message: impl Into<String>) -> Error {
+
+    /// A reader of `r` positioned after line `no`, at byte `pos`, with the
+    /// section's checksum so far.
+    pub(crate) fn at(path: &Path, r: R, no: usize, pos: u64, sum: Fnv1a) -> Self {
+        LineReader {
+            path: path.into(),
+            r,
+            buf: Vec::new(),
+            len: 0,
+            no,
+            pos,
+            sum,
+        }
+    }
+
+    /// Reads the next line and adds it to the checksum; false at the end.
+    pub(crate) fn advance(&mut self) -> Result<bool> {
+        use std::io::{BufRead, Read};
+        self.buf.clear();
+        let n = (&mut self.r)
+            .take(MAX_LINE as u64 + 1)
+            .read_until(b'\n', &mut self.buf)
+            .map_err(|source| Error::Io {
+                path: self.path.clone(),
+                source,
+            })?;
+        if n == 0 {
+            return Ok(false);
+        }
+        self.no += 1;
+        self.pos += n as u64;
+        let mut len = n;
+        if self.buf[n - 1] == b'\n' {
+            len -= 1;
+            if len > 0 && self.buf[len - 1] == b'\r' {
+                len -= 1;
+            }
+        } else if n > MAX_LINE {
+            return Err(self.err(
+                None,
+                format!(
+                    "the line is longer than {} MiB: not a line nidus writes (a damaged or \
+                     wrong file?)",
+                    MAX_LINE >> 20
+                ),
+            ));
+        }
+        if let Err(e) = std::str::from_utf8(&self.buf[..len]) {
+            let at = e.valid_up_to();
+            let valid = std::str::from_utf8(&self.buf[..at]).unwrap_or("");
+            return Err(self.err(
+                None,
+                format!(
+                    "column {} (byte {}) holds 0x{:02x}, which is not UTF-8 text: \
+                     a damaged or wrong file",
+                    valid.chars().count() + 1,
+                    at + 1,
+                    self.buf[at]
+                ),
+            ));
+        }
+        self.len = len;
+        self.sum.write(&self.buf[..len]);
+        self.sum.write(b"\n");
+        Ok(true)
+    }
+
+    /// The current line, without its line break.
+    pub(crate) fn line(&self) -> &str {
+        // Checked by `advance`.
+        std::str::from_utf8(&self.buf[..self.len]).unwrap_or("")
+    }
+
+    pub(crate) fn err(&self, column: Option<usize>, message: impl Into<String>) -> Error {
+        self.err_at(self.no, column, message)
+    }
+
+    fn err_at(&self, line: usize, column: Option<usize>, message: impl Into<String>) -> Error {
         Error::Parse {
-            path: self.path.into(),
+            path: self.path.clone(),
             line,
             column,
             message: message.into(),
         }
     }
-    /// The next header line `# key<TAB>fields...`, checked against `key`.
-    fn header(&mut self, key: &str) -> Result<(usize, Vec<&'a str>)> {
-        let Some((no, line)) = self.next_line() else {
-            return Err(self.err(0, None, format!("the file ends before the '# {key}' line")));
-        };
+
+    /// The next header line `# key<TAB>fields...`, checked against `key`:
+    /// its fields.
+    fn header(&mut self, key: &str) -> Result<Vec<String>> {
+        if !self.advance()? {
+            return Err(self.err_at(0, None, format!("the file ends before the '# {key}' line")));
+        }
+        self.fields_here(key)
+    }
+
+    /// The line already read, checked to be the header line `# key`: its
+    /// fields.
+    fn fields_here(&self, key: &str) -> Result<Vec<String>> {
+        let line = self.line();
         let mut fields = line.split('\t');
         let head = fields.next().unwrap_or("");
         if head != format!("# {key}") {
             return Err(self.err(
-                no,
                 Some(1),
                 format!("expected the header line '# {key}', found '{head}'"),
             ));
         }
-        Ok((no, fields.collect()))
+        Ok(fields.map(str::to_string).collect())
     }
-    fn one(&mut self, key: &str) -> Result<(usize, &'a str)> {
-        let (no, f) = self.header(key)?;
+
+    fn one(&mut self, key: &str) -> Result<String> {
+        let mut f = self.header(key)?;
         if f.len() != 1 {
-            return Err(self.err(no, None, format!("'# {key}' needs exactly one value")));
+            return Err(self.err(None, format!("'# {key}' needs exactly one value")));
         }
-        Ok((no, f[0]))
+        Ok(f.remove(0))
     }
-}
 
-fn parse_num<T: std::str::FromStr>(
-    l: &Lines<'_>,
-    no: usize,
-    col: usize,
-    s: &str,
-    what: &str,
-) -> Result<T> {
-    s.parse()
-        .map_err(|_| l.err(no, Some(col), format!("'{s}' is not a valid {what}")))
-}
-
-fn parse_opt<T: std::str::FromStr>(
-    l: &Lines<'_>,
-    no: usize,
-    s: &str,
-    what: &str,
-) -> Result<Option<T>> {
-    if s == "none" {
-        Ok(None)
-    } else {
-        parse_num(l, no, 2, s, what).map(Some)
+    fn num<T: std::str::FromStr>(&self, col: usize, s: &str, what: &str) -> Result<T> {
+        s.parse()
+            .map_err(|_| self.err(Some(col), format!("'{s}' is not a valid {what}")))
     }
-}
 
-/// A value of index `kind`, refused unless the index can take it.
-fn value(l: &Lines<'_>, no: usize, col: usize, s: &str, kind: IndexKind) -> Result<f64> {
-    let v: f64 = parse_num(l, no, col, s, "number")?;
-    if !possible(kind, v) {
-        return Err(l.err(
-            no,
-            Some(col),
-            format!("{s} is not a value {} can take", kind.name()),
-        ));
+    fn opt<T: std::str::FromStr>(&self, s: &str, what: &str) -> Result<Option<T>> {
+        if s == "none" {
+            Ok(None)
+        } else {
+            self.num(2, s, what).map(Some)
+        }
     }
-    Ok(v)
-}
 
-fn named<T: std::str::FromStr<Err = Error>>(
-    l: &Lines<'_>,
-    no: usize,
-    col: usize,
-    s: &str,
-) -> Result<T> {
-    s.parse()
-        .map_err(|e: Error| l.err(no, Some(col), e.to_string()))
-}
+    /// A value of index `kind`, refused unless the index can take it.
+    fn value(&self, col: usize, s: &str, kind: IndexKind) -> Result<f64> {
+        let v: f64 = self.num(col, s, "number")?;
+        if !possible(kind, v) {
+            return Err(self.err(
+                Some(col),
+                format!("{s} is not a value {} can take", kind.name()),
+            ));
+        }
+        Ok(v)
+    }
 
-/// Parses the text of a saved-draws file; `source` names it in errors.
-pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
-    let mut l = Lines {
-        path: source,
-        lines: text.lines().enumerate().peekable(),
-        sum: Fnv1a::default(),
-        last: 0,
-    };
-    let mut out = Vec::new();
-    while l.lines.peek().is_some() {
-        l.sum = Fnv1a::default();
-        let (no, magic) = l.next_line().expect("peeked");
+    fn named<T: std::str::FromStr<Err = Error>>(&self, col: usize, s: &str) -> Result<T> {
+        s.parse()
+            .map_err(|e: Error| self.err(Some(col), e.to_string()))
+    }
+
+    /// Reads a section's header through its column line: the network
+    /// file's label and the run without draws. `None` at the end of the
+    /// input. The checksum starts afresh with the section.
+    pub(crate) fn section_head(&mut self) -> Result<Option<(String, NullRun)>> {
+        self.sum = Fnv1a::default();
+        if !self.advance()? {
+            return Ok(None);
+        }
+        let magic = self.line();
         if magic == format!("{MAGIC}\t1") {
-            return Err(l.err(
-                no,
+            return Err(self.err(
                 None,
                 "a saved-draws file of format 1 (no checksum trailer, from an older nidus): \
                  re-run that part with this version",
             ));
         }
         if magic != format!("{MAGIC}\t{VERSION}") {
-            return Err(l.err(
-                no,
+            return Err(self.err(
                 None,
                 format!(
                     "expected '{MAGIC}<TAB>{VERSION}' (a nidus saved-draws file, format {VERSION})"
                 ),
             ));
         }
-        let (_, file) = l.one("file")?;
-        let (no, model) = l.one("model")?;
-        let model: NullModel = named(&l, no, 2, model)?;
-        let (no, seed) = l.one("seed")?;
-        let seed: u64 = parse_num(&l, no, 2, seed, "seed")?;
-        let (no, draws) = l.one("draws")?;
+        let file = self.one("file")?;
+        let model = self.one("model")?;
+        let model: NullModel = self.named(2, &model)?;
+        let seed = self.one("seed")?;
+        let seed: u64 = self.num(2, &seed, "seed")?;
+        let draws = self.one("draws")?;
         let draws: usize = match draws.parse::<u128>() {
             Ok(d) if d <= MAX_DRAWS as u128 => d as usize,
             Ok(_) => {
-                return Err(l.err(
-                    no,
+                return Err(self.err(
                     Some(2),
                     format!("{draws} draws is more than nidus accepts ({MAX_DRAWS})"),
                 ))
             }
-            Err(_) => parse_num(&l, no, 2, draws, "number of draws")?,
+            Err(_) => self.num(2, &draws, "number of draws")?,
         };
-        let (no, shard) = l.one("shard")?;
+        let shard = self.one("shard")?;
         let shard: Option<Shard> = if shard == "none" {
             None
         } else {
-            let s: Shard = named(&l, no, 2, shard)?;
+            let s: Shard = self.named(2, &shard)?;
             if s.count() > draws.max(1) {
-                return Err(l.err(
-                    no,
+                return Err(self.err(
                     Some(2),
                     format!("shard {s} of a run of {draws} draws: more shards than draws"),
                 ));
             }
             Some(s)
         };
-        let (no, stop) = l.one("stop_after")?;
-        let stop_after: Option<usize> = parse_opt(&l, no, stop, "stop limit")?;
-        let (no, burn) = l.one("burn_in")?;
-        let burn_in: Option<usize> = parse_opt(&l, no, burn, "burn-in")?;
-        let (no, order) = l.one("order")?;
-        let order: Order = named(&l, no, 2, order)?;
-        let (no, shape) = l.header("shape")?;
+        let stop = self.one("stop_after")?;
+        let stop_after: Option<usize> = self.opt(&stop, "stop limit")?;
+        let burn = self.one("burn_in")?;
+        let burn_in: Option<usize> = self.opt(&burn, "burn-in")?;
+        let order = self.one("order")?;
+        let order: Order = self.named(2, &order)?;
+        // Optional (files of earlier versions lack it): when the next line
+        // is not '# restarts', it is the '# shape' line, read in place.
+        if !self.advance()? {
+            return Err(self.err_at(0, None, "the file ends before the '# shape' line"));
+        }
+        let restarts_line = if self.line().split('\t').next() == Some("# restarts") {
+            let r = self.fields_here("restarts")?;
+            if r.len() != 1 {
+                return Err(self.err(None, "'# restarts' needs exactly one value"));
+            }
+            let r = &r[0];
+            let parsed: Option<usize> = match r.parse::<u128>() {
+                Ok(v) if v > MAX_RESTARTS as u128 => {
+                    return Err(self.err(
+                        Some(2),
+                        format!("{r} restarts is more than nidus accepts ({MAX_RESTARTS})"),
+                    ))
+                }
+                _ => self.opt(r, "number of restarts")?,
+            };
+            let no = self.no;
+            if !self.advance()? {
+                return Err(self.err_at(0, None, "the file ends before the '# shape' line"));
+            }
+            Some((no, parsed))
+        } else {
+            None
+        };
+        let shape = self.fields_here("shape")?;
         if shape.len() != 3 {
-            return Err(l.err(no, None, "'# shape' needs rows, columns and links"));
+            return Err(self.err(None, "'# shape' needs rows, columns and links"));
         }
         let shape = (
-            parse_num(&l, no, 2, shape[0], "row count")?,
-            parse_num(&l, no, 3, shape[1], "column count")?,
-            parse_num(&l, no, 4, shape[2], "link count")?,
+            self.num(2, &shape[0], "row count")?,
+            self.num(3, &shape[1], "column count")?,
+            self.num(4, &shape[2], "link count")?,
         );
-        let (no, net) = l.one("network")?;
-        let network = match u64::from_str_radix(net, 16) {
+        let net = self.one("network")?;
+        let network = match u64::from_str_radix(&net, 16) {
             Ok(v) if net.len() == 16 => v,
-            _ => return Err(l.err(no, Some(2), "'# network' needs a 16-digit hex fingerprint")),
+            _ => return Err(self.err(Some(2), "'# network' needs a 16-digit hex fingerprint")),
         };
-        let (no, names) = l.header("indices")?;
+        let names = self.header("indices")?;
         let indices: Vec<IndexKind> = names
             .iter()
             .enumerate()
-            .map(|(c, s)| named(&l, no, c + 2, s))
+            .map(|(c, s)| self.named(c + 2, s))
             .collect::<Result<_>>()?;
         if indices.is_empty() {
-            return Err(l.err(no, None, "no index named"));
+            return Err(self.err(None, "no index named"));
         }
-        let (no, obs) = l.header("observed")?;
+        let restarts = match (packs_temperature(&indices), restarts_line) {
+            (false, _) => None,
+            (true, None) => Some(OLD_DEFAULT_RESTARTS),
+            (true, Some((_, Some(r)))) => Some(r),
+            (true, Some((no, None))) => {
+                return Err(self.err_at(
+                    no,
+                    Some(2),
+                    "temperature is tested: '# restarts' needs the number of random starts",
+                ))
+            }
+        };
+        let obs = self.header("observed")?;
         if obs.len() != indices.len() {
-            return Err(l.err(
-                no,
+            return Err(self.err(
                 None,
                 format!(
                     "{} observed values for {} indices",
@@ -474,98 +603,17 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
         let observed: Vec<f64> = obs
             .iter()
             .enumerate()
-            .map(|(c, s)| value(&l, no, c + 2, s, indices[c]))
+            .map(|(c, s)| self.value(c + 2, s, indices[c]))
             .collect::<Result<_>>()?;
-        match l.next_line() {
-            Some((_, line)) if line.split('\t').next() == Some("draw") => {}
-            Some((no, _)) => {
-                return Err(l.err(no, None, "expected the column line 'draw<TAB>...'"))
-            }
-            None => return Err(l.err(0, None, "the file ends before the column line")),
+        if !self.advance()? {
+            return Err(self.err_at(0, None, "the file ends before the column line"));
         }
-        let mut draw_ids = Vec::new();
-        let mut values = Vec::new();
-        loop {
-            let before = l.sum;
-            let Some((no, line)) = l.next_line() else {
-                return Err(l.err(
-                    l.last,
-                    None,
-                    format!(
-                        "the section of {file} ({model}) ends without its '# end' trailer: \
-                         the part was cut short (an interrupted copy or a full disk?)"
-                    ),
-                ));
-            };
-            if line.starts_with('#') {
-                let mut f = line.split('\t');
-                if f.next() != Some("# end") {
-                    return Err(l.err(
-                        no,
-                        None,
-                        format!(
-                            "expected a draw or the '# end' trailer of the section of {file} \
-                             ({model}): the part was cut short"
-                        ),
-                    ));
-                }
-                let (Some(count), Some(sum), None) = (f.next(), f.next(), f.next()) else {
-                    return Err(l.err(no, None, "'# end' needs a draw count and a checksum"));
-                };
-                if count.parse::<usize>().ok() != Some(draw_ids.len()) {
-                    return Err(l.err(
-                        no,
-                        Some(2),
-                        format!(
-                            "the trailer counts {count} draws but the section holds {}: \
-                             the part is damaged",
-                            draw_ids.len()
-                        ),
-                    ));
-                }
-                if u64::from_str_radix(sum, 16).ok() != Some(before.finish()) || sum.len() != 16 {
-                    return Err(l.err(
-                        no,
-                        Some(3),
-                        format!(
-                            "checksum {sum} does not match the section's content ({:016x}): \
-                             the part is damaged or was edited",
-                            before.finish()
-                        ),
-                    ));
-                }
-                break;
-            }
-            let fields: Vec<&str> = line.split('\t').collect();
-            if fields.len() != indices.len() + 1 {
-                return Err(l.err(
-                    no,
-                    None,
-                    format!("expected a draw number and {} values", indices.len()),
-                ));
-            }
-            let k: u64 = parse_num(&l, no, 1, fields[0], "draw number")?;
-            if k >= draws as u64 || shard.is_some_and(|s| !s.contains(k)) {
-                return Err(l.err(
-                    no,
-                    Some(1),
-                    format!("draw {k} does not belong to this run or shard"),
-                ));
-            }
-            if draw_ids.last().is_some_and(|&p| p >= k) {
-                return Err(l.err(no, Some(1), format!("draw {k} is out of order or repeated")));
-            }
-            let v: Vec<f64> = fields[1..]
-                .iter()
-                .enumerate()
-                .map(|(c, s)| value(&l, no, c + 2, s, indices[c]))
-                .collect::<Result<_>>()?;
-            draw_ids.push(k);
-            values.push(v);
+        if self.line().split('\t').next() != Some("draw") {
+            return Err(self.err(None, "expected the column line 'draw<TAB>...'"));
         }
-        out.push(SavedRun {
-            file: file.to_string(),
-            run: NullRun {
+        Ok(Some((
+            file,
+            NullRun {
                 model,
                 indices,
                 observed,
@@ -575,16 +623,167 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
                 stop_after,
                 burn_in,
                 order,
+                restarts,
                 shape,
                 network,
-                draw_ids,
-                values,
+                draw_ids: Vec::new(),
+                values: Vec::new(),
             },
-        });
+        )))
+    }
+
+    /// Reads the next draw line of the section of `head` (label `file`)
+    /// into `values`, checking that it is draw `body.next`: draws follow
+    /// each other in the run's (or shard's) order without a gap. Returns
+    /// its number, or `None` after reading and checking the trailer (its
+    /// count and checksum).
+    pub(crate) fn next_draw(
+        &mut self,
+        file: &str,
+        head: &NullRun,
+        body: &mut Body,
+        values: &mut Vec<f64>,
+    ) -> Result<Option<u64>> {
+        let model = head.model;
+        let before = self.sum;
+        if !self.advance()? {
+            return Err(self.err_at(
+                self.no,
+                None,
+                format!(
+                    "the section of {file} ({model}) ends without its '# end' trailer: \
+                     the part was cut short (an interrupted copy or a full disk?)"
+                ),
+            ));
+        }
+        let line = self.line();
+        if line.starts_with('#') {
+            let mut f = line.split('\t');
+            if f.next() != Some("# end") {
+                return Err(self.err(
+                    None,
+                    format!(
+                        "expected a draw or the '# end' trailer of the section of {file} \
+                         ({model}): the part was cut short"
+                    ),
+                ));
+            }
+            let (Some(count), Some(sum), None) = (f.next(), f.next(), f.next()) else {
+                return Err(self.err(None, "'# end' needs a draw count and a checksum"));
+            };
+            if count.parse::<usize>().ok() != Some(body.count) {
+                return Err(self.err(
+                    Some(2),
+                    format!(
+                        "the trailer counts {count} draws but the section holds {}: \
+                         the part is damaged",
+                        body.count
+                    ),
+                ));
+            }
+            if u64::from_str_radix(sum, 16).ok() != Some(before.finish()) || sum.len() != 16 {
+                return Err(self.err(
+                    Some(3),
+                    format!(
+                        "checksum {sum} does not match the section's content ({:016x}): \
+                         the part is damaged or was edited",
+                        before.finish()
+                    ),
+                ));
+            }
+            return Ok(None);
+        }
+        let n = head.indices.len();
+        let mut fields = line.split('\t');
+        let k = fields.next().unwrap_or("");
+        let k: u64 = self.num(1, k, "draw number")?;
+        if k >= head.draws as u64 || head.shard.is_some_and(|s| !s.contains(k)) {
+            return Err(self.err(
+                Some(1),
+                format!("draw {k} does not belong to this run or shard"),
+            ));
+        }
+        if k < body.next {
+            return Err(self.err(Some(1), format!("draw {k} is out of order or repeated")));
+        }
+        if k > body.next {
+            let after = if body.count == 0 {
+                "the section starts".to_string()
+            } else {
+                format!("draw {k} follows draw {}", body.next - body.step)
+            };
+            return Err(self.err(
+                Some(1),
+                format!(
+                    "{after} with draw {k}: draw {} is missing (a gap in the draw numbers; \
+                     the part is damaged or was edited)",
+                    body.next
+                ),
+            ));
+        }
+        values.clear();
+        for (c, s) in fields.enumerate() {
+            if c >= n {
+                values.push(0.0);
+                break;
+            }
+            values.push(self.value(c + 2, s, head.indices[c])?);
+        }
+        if values.len() != n {
+            return Err(self.err(None, format!("expected a draw number and {n} values")));
+        }
+        body.next += body.step;
+        body.count += 1;
+        Ok(Some(k))
+    }
+}
+
+/// Where the draws of a section being read have got to: the number the
+/// next draw must have, the step between draws and the draws read.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Body {
+    pub(crate) next: u64,
+    pub(crate) step: u64,
+    pub(crate) count: usize,
+}
+
+impl Body {
+    /// The start of `head`'s draws: the shard's first draw, or draw 0.
+    pub(crate) fn of(head: &NullRun) -> Body {
+        match head.shard {
+            Some(s) => Body {
+                next: (s.index() - 1) as u64,
+                step: s.count() as u64,
+                count: 0,
+            },
+            None => Body {
+                next: 0,
+                step: 1,
+                count: 0,
+            },
+        }
+    }
+}
+
+/// Every section of `l` with its draws.
+fn read_all<R: std::io::BufRead>(mut l: LineReader<R>) -> Result<Vec<SavedRun>> {
+    let mut out = Vec::new();
+    let mut v = Vec::new();
+    while let Some((file, mut run)) = l.section_head()? {
+        let mut body = Body::of(&run);
+        while let Some(k) = l.next_draw(&file, &run, &mut body, &mut v)? {
+            run.draw_ids.push(k);
+            run.values.push(v.clone());
+        }
+        out.push(SavedRun { file, run });
     }
     Ok(out)
 }
 
+/// Parses the text of a saved-draws file; `source` names it in errors.
+pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
+    read_all(LineReader::new(source, text.as_bytes()))
+}
 /// Everything but the shard and the draws must agree between parts of one
 /// run: the first setting that differs, as "name a vs b", or `None`.
 pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
@@ -606,6 +805,7 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
         .or_else(|| d("stop_after", a.stop_after, b.stop_after))
         .or_else(|| d("burn_in", a.burn_in, b.burn_in))
         .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
+        .or_else(|| d("restarts (temperature packing)", a.restarts, b.restarts))
         .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
         .or_else(|| {
             (a.network != b.network).then(|| {
@@ -640,7 +840,9 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
 /// stands alone (and must be complete). Errors name the file, the model and
 /// the problem.
 ///
-/// Cost: `O(D log D)` for `D` draws in all (a sort by draw number).
+/// Cost: `O(D log D)` for `D` draws in all (a sort by draw number);
+/// memory: every draw. [`crate::null::merge_stream::merge_files`] merges
+/// saved-draws files in memory bounded by the network instead.
 ///
 /// # Example
 /// ```
@@ -660,6 +862,63 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
 /// assert_eq!(merged[0].run.summaries().unwrap(), whole.summaries().unwrap());
 /// ```
 pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
+    let groups = group_parts(parts.into_iter().map(|p| (p.file, p.run, ())).collect())?;
+    let mut out = Vec::with_capacity(groups.len());
+    for (label, runs) in groups {
+        let what = format!("{label} / {}", runs[0].0.model.name());
+        let merged = if runs.len() == 1 && runs[0].0.shard.is_none() {
+            runs.into_iter().next().expect("one run").0
+        } else {
+            let mut pairs: Vec<(u64, Vec<f64>)> = Vec::with_capacity(runs[0].0.draws);
+            let mut base = runs[0].0.clone();
+            for (r, ()) in runs {
+                pairs.extend(r.draw_ids.into_iter().zip(r.values));
+            }
+            pairs.sort_by_key(|p| p.0);
+            base.shard = None;
+            base.draw_ids = Vec::with_capacity(pairs.len());
+            base.values = Vec::with_capacity(pairs.len());
+            for (k, v) in pairs {
+                base.draw_ids.push(k);
+                base.values.push(v);
+            }
+            base
+        };
+        if let Some((t, &k)) = merged
+            .draw_ids
+            .iter()
+            .enumerate()
+            .find(|&(t, &k)| k != t as u64)
+        {
+            return Err(Error::InvalidArgument(format!(
+                "{what}: draw {t} is missing or repeated (found draw {k} in its place)"
+            )));
+        }
+        if !merged.is_complete() {
+            return Err(Error::InvalidArgument(format!(
+                "{what}: {} of the {} draws are present; a part is truncated",
+                merged.draw_ids.len(),
+                merged.draws
+            )));
+        }
+        out.push(SavedRun {
+            file: label,
+            run: merged,
+        });
+    }
+    Ok(out)
+}
+
+/// A run's label and its parts with their extras.
+pub(crate) type Group<T> = (String, Vec<(NullRun, T)>);
+
+/// The parts of one or more runs sorted into runs (see [`merge_runs`]):
+/// `(label, parts)` per run, runs in the order they first appear, parts
+/// in shard order `1/K..K/K` (or the one unsplit part), each with its
+/// `extra`. Checks everything that the parts' headers tell: same settings,
+/// each shard exactly once, one unsplit copy. Only the parts' headers are
+/// read (their draws may be empty).
+pub(crate) fn group_parts<T>(parts: Vec<(String, NullRun, T)>) -> Result<Vec<Group<T>>> {
     if parts.is_empty() {
         return Err(Error::InvalidArgument(
             "the parts hold no saved run: the shards that wrote them ended before saving any \
@@ -671,18 +930,18 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
     // the first part's.
     let mut order: Vec<(u64, NullModel)> = Vec::new();
     let mut labels: HashMap<(u64, NullModel), String> = HashMap::new();
-    let mut groups: HashMap<(u64, NullModel), Vec<NullRun>> = HashMap::new();
-    for p in parts {
-        let key = (p.run.network, p.run.model);
+    let mut groups: HashMap<(u64, NullModel), Vec<(NullRun, T)>> = HashMap::new();
+    for (file, run, extra) in parts {
+        let key = (run.network, run.model);
         if !groups.contains_key(&key) {
             order.push(key);
-            labels.insert(key, p.file.clone());
+            labels.insert(key, file);
         }
-        groups.entry(key).or_default().push(p.run);
+        groups.entry(key).or_default().push((run, extra));
     }
     let mut out = Vec::with_capacity(order.len());
     for key in order {
-        let runs = groups.remove(&key).expect("grouped");
+        let mut runs = groups.remove(&key).expect("grouped");
         let label = labels[&key].clone();
         // Another group with the same name and model: a part of another network.
         let clash = labels
@@ -695,15 +954,14 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
                 key.1.name()
             )));
         }
-        let key = (label, key.1);
-        let what = format!("{} / {}", key.0, key.1.name());
-        let first = &runs[0];
-        if let Some(diff) = runs.iter().find_map(|r| differing_setting(first, r)) {
+        let what = format!("{label} / {}", key.1.name());
+        let first = &runs[0].0;
+        if let Some(diff) = runs.iter().find_map(|r| differing_setting(first, &r.0)) {
             return Err(Error::InvalidArgument(format!(
                 "{what}: the parts come from different runs: {diff}"
             )));
         }
-        let merged = match first.shard {
+        match first.shard {
             None => {
                 if runs.len() > 1 {
                     return Err(Error::InvalidArgument(format!(
@@ -711,16 +969,15 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
                         runs.len()
                     )));
                 }
-                runs.into_iter().next().expect("one run")
             }
             Some(s) => {
                 // Shards counted from the parts given (no vector of size K).
                 let k = s.count();
-                let mut seen: Vec<usize> = runs
+                runs.sort_by_key(|r| r.0.shard.expect("same shard count checked").index());
+                let seen: Vec<usize> = runs
                     .iter()
-                    .map(|r| r.shard.expect("same shard count checked").index())
+                    .map(|r| r.0.shard.expect("same shard count checked").index())
                     .collect();
-                seen.sort_unstable();
                 if let Some(w) = seen.windows(2).find(|w| w[0] == w[1]) {
                     let times = seen.iter().filter(|&&i| i == w[0]).count();
                     return Err(Error::InvalidArgument(format!(
@@ -749,43 +1006,9 @@ pub fn merge_runs(parts: Vec<SavedRun>) -> Result<Vec<SavedRun>> {
                         }
                     )));
                 }
-                let mut pairs: Vec<(u64, Vec<f64>)> = Vec::with_capacity(first.draws);
-                let mut base = runs[0].clone();
-                for r in runs {
-                    pairs.extend(r.draw_ids.into_iter().zip(r.values));
-                }
-                pairs.sort_by_key(|p| p.0);
-                base.shard = None;
-                base.draw_ids = Vec::with_capacity(pairs.len());
-                base.values = Vec::with_capacity(pairs.len());
-                for (k, v) in pairs {
-                    base.draw_ids.push(k);
-                    base.values.push(v);
-                }
-                base
             }
-        };
-        if let Some((t, &k)) = merged
-            .draw_ids
-            .iter()
-            .enumerate()
-            .find(|&(t, &k)| k != t as u64)
-        {
-            return Err(Error::InvalidArgument(format!(
-                "{what}: draw {t} is missing or repeated (found draw {k} in its place)"
-            )));
         }
-        if !merged.is_complete() {
-            return Err(Error::InvalidArgument(format!(
-                "{what}: {} of the {} draws are present; a part is truncated",
-                merged.draw_ids.len(),
-                merged.draws
-            )));
-        }
-        out.push(SavedRun {
-            file: key.0,
-            run: merged,
-        });
+        out.push((label, runs));
     }
     Ok(out)
 }

@@ -161,6 +161,9 @@ pub struct NullConfig {
     pub options: NullOptions,
     /// Row and column order for the indices that read one.
     pub order: Order,
+    /// Random starts of the packing search of `temperature` besides the
+    /// degree-sorted one (default 4, as [`crate::metrics::temperature::TemperatureOptions`]).
+    pub restarts: usize,
 }
 
 impl NullConfig {
@@ -177,7 +180,22 @@ impl NullConfig {
             stop_after: None,
             options: NullOptions::default(),
             order: Order::Sorted,
+            restarts: crate::metrics::temperature::TemperatureOptions::default().restarts,
         }
+    }
+
+    /// The index settings of this run: the order, and the packing restarts
+    /// of `temperature`.
+    fn index_options(&self) -> IndexOptions {
+        let mut opts = IndexOptions::with_order(self.order);
+        opts.temperature = opts.temperature.with_restarts(self.restarts);
+        opts
+    }
+
+    /// The restarts recorded with the run: the setting when the packed
+    /// `temperature` is among the indices, else `None` (it does not apply).
+    pub fn recorded_restarts(&self) -> Option<usize> {
+        packs_temperature(&self.indices).then_some(self.restarts)
     }
 
     /// The runner's part of the configuration.
@@ -212,6 +230,12 @@ impl NullConfig {
     }
 }
 
+/// True when the packed `temperature` (the index that reads the packing
+/// restarts) is among `indices`.
+pub fn packs_temperature(indices: &[IndexKind]) -> bool {
+    indices.iter().any(|k| k.name() == "temperature")
+}
+
 /// The draws of a run (or of one shard of it) and everything needed to
 /// summarise or merge them.
 #[derive(Clone, Debug)]
@@ -235,6 +259,9 @@ pub struct NullRun {
     pub burn_in: Option<usize>,
     /// Order used by order-dependent indices.
     pub order: Order,
+    /// Random starts of the packing search of `temperature` (`None` when
+    /// the packed `temperature` is not among the indices).
+    pub restarts: Option<usize>,
     /// Rows, columns and links of the observed network.
     pub shape: (usize, usize, usize),
     /// Content fingerprint of the observed network
@@ -646,7 +673,7 @@ fn run_inner<T: Weight>(
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<NullRun> {
     let sampler = NullSampler::new(net, config.model, &config.options)?;
-    let opts = IndexOptions::with_order(config.order);
+    let opts = config.index_options();
     let stats: Vec<_> = config.indices.iter().map(|k| k.statistic(opts)).collect();
     let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
     let options = config.run_options();
@@ -671,6 +698,7 @@ fn run_inner<T: Weight>(
         stop_after: config.stop_after,
         burn_in: sampler.burn_in(),
         order: config.order,
+        restarts: config.recorded_restarts(),
         shape: (net.nrows(), net.ncols(), net.links()),
         network: crate::null::draws_file::fingerprint(net),
         draw_ids: run.draw_ids,
@@ -718,7 +746,7 @@ pub fn run_null_streaming<T: Weight>(
     config.check()?;
     let mut go = || -> Result<NullRun> {
         let sampler = NullSampler::new(net, config.model, &config.options)?;
-        let opts = IndexOptions::with_order(config.order);
+        let opts = config.index_options();
         let stats: Vec<_> = config.indices.iter().map(|k| k.statistic(opts)).collect();
         let stats: Vec<&dyn Statistic> = stats.iter().map(|s| s as &dyn Statistic).collect();
         let options = config.run_options();
@@ -733,6 +761,7 @@ pub fn run_null_streaming<T: Weight>(
             stop_after: config.stop_after,
             burn_in: sampler.burn_in(),
             order: config.order,
+            restarts: config.recorded_restarts(),
             shape: (net.nrows(), net.ncols(), net.links()),
             network,
             draw_ids: Vec::new(),

@@ -441,7 +441,14 @@ fn alternating_search_bounds_on_tiny_matrices() {
         let sc = degree_order(&b.col_degrees());
         let st = table.total(&b, &sr, &sc);
         let opts = TemperatureOptions::default();
-        let (u, rows, cols) = pack(&b, &table, (st, sr, sc), &opts, false, false);
+        let (u, rows, cols) = pack(
+            &b,
+            &table,
+            (st, sr, sc),
+            &opts,
+            false,
+            super::CostLoop::Lanes,
+        );
         let t = table.to_t(u);
         let want = brute_min(&a);
         assert!(t <= table.to_t(st));
@@ -474,7 +481,7 @@ fn alternating_search_is_a_local_minimum() {
             (st, sr, sc),
             &TemperatureOptions::default(),
             false,
-            false,
+            super::CostLoop::Lanes,
         );
         let t = table.to_t(u);
         let reference = RefTable::new(&a).unwrap();
@@ -670,8 +677,9 @@ fn reused_table_gives_the_same_values() {
     assert_eq!(bits(&b).count_ones(), ones);
 }
 
-/// The blocked cost-table loop gives the packed T and both orders of the
-/// direct gather loop it replaced, bit for bit (shapes with one block and
+/// The register-lane cost-table loop (the default) and the blocked loop it
+/// replaced give the packed T and both orders of the direct gather loop,
+/// bit for bit (shapes with one block and
 /// with several, including a partial last block, as tests use blocks of
 /// 256 cells; seeded random matrices).
 #[test]
@@ -687,9 +695,15 @@ fn blocked_cost_table_matches_direct_gathers() {
         let table = UnexpectednessTable::new(m, n, b.count_ones()).unwrap();
         let new = temperature_with_table(&b, &table, &opts).unwrap();
         let old = super::temperature_with_table_direct_gathers(&b, &table, &opts).unwrap();
-        assert_eq!(new.packed.unwrap().to_bits(), old.packed.unwrap().to_bits());
-        assert_eq!(new.row_order, old.row_order, "seed {seed}");
-        assert_eq!(new.col_order, old.col_order, "seed {seed}");
+        let blocked = super::temperature_with_table_blocked(&b, &table, &opts).unwrap();
+        for other in [&old, &blocked] {
+            assert_eq!(
+                new.packed.unwrap().to_bits(),
+                other.packed.unwrap().to_bits()
+            );
+            assert_eq!(new.row_order, other.row_order, "seed {seed}");
+            assert_eq!(new.col_order, other.col_order, "seed {seed}");
+        }
     }
 }
 

@@ -1,0 +1,536 @@
+//! WNODF on global weight ranks (the path taken for dense storage and for
+//! the given order).
+//!
+//! Every weight is replaced once by its rank among the network's distinct
+//! weights (1 = smallest). Ranks keep the order of the weights, so every
+//! comparison `w_a > w_b`, and hence every count, is the same as on the
+//! weights; the value is identical to the list kernels of `csr.rs`. The
+//! compressed rows are transposed once, carrying the ranks.
+//!
+//! * Sorted order: the members of a side are visited by decreasing degree,
+//!   one tie group at a time. Each list (a column, for the row side) keeps,
+//!   for every rank `r`, how many of its members already visited (larger
+//!   degree) have a rank above `r`: a band of at most 64 counters per list
+//!   when there are few distinct weights (an insertion is one or two vector
+//!   additions), else a Fenwick tree per list. A member's count is the sum,
+//!   over its lists, of that number at its own rank. Cost `O(L W)` or
+//!   `O(L log R)`, memory `O(n W)` for `R` distinct weights, `W` the band.
+//!   Work is split between tasks by ranges of lists.
+//! * Given order: the pairs of each list, earlier member as upper, over
+//!   separate arrays of degrees and ranks in 16-bit lanes (32-bit when a
+//!   degree or rank does not fit), compiled for AVX-512 and AVX2 when the
+//!   CPU has them (checked at run time) and portable otherwise.
+//!
+//! Counts are integers, added per member in member order by
+//! [`side_value`], so the value does not depend on the number of threads.
+
+use rayon::prelude::*;
+
+use crate::error::Result;
+use crate::metrics::{degree_order, side_value, Order, Parts};
+use crate::storage::lists::{add_up, list_degrees, per_list, transpose_lists};
+use crate::storage::Csr;
+
+/// Largest band of per-rank counters per list (ranks `1..BAND_MAX`).
+const BAND_MAX: usize = 64;
+
+/// WNODF from compressed rows by global ranks; `None` when the sorted
+/// order would need a Fenwick tree per list larger than the network allows
+/// (many distinct weights on a wide side), left to the list kernels.
+pub(crate) fn wnodf_ranked(rows: &Csr<f64>, order: Order) -> Option<Result<Parts>> {
+    let (m, n) = (rows.nrows(), rows.ncols());
+    let (ranks, distinct) = global_ranks(rows.values());
+    if order == Order::Sorted && distinct >= BAND_MAX {
+        // Fenwick trees of `distinct + 1` counters for every list of either
+        // side: refuse more than a few times the network's own size.
+        let budget = 4 * (rows.nnz() + m + n) + 4096;
+        if (m.max(n)).saturating_mul(distinct + 1) > budget {
+            return None;
+        }
+    }
+    let (cptr, cidx, cranks) =
+        transpose_lists(n, rows.indptr(), rows.indices(), Some(&ranks), None);
+    let cranks = cranks.unwrap_or_default();
+    let rd = list_degrees(rows.indptr());
+    let cd = list_degrees(&cptr);
+    let (rk, ck) = rayon::join(
+        || match order {
+            Order::Sorted => sorted_counts(rows.indptr(), rows.indices(), &ranks, n, &rd, distinct),
+            Order::Given => given_counts(&cptr, &cidx, &cranks, &rd, distinct),
+        },
+        || match order {
+            Order::Sorted => sorted_counts(&cptr, &cidx, &cranks, m, &cd, distinct),
+            Order::Given => given_counts(rows.indptr(), rows.indices(), &ranks, &cd, distinct),
+        },
+    );
+    Some(Parts::from_sums(
+        "WNODF",
+        m,
+        n,
+        side_value(&rd, &rk),
+        side_value(&cd, &ck),
+    ))
+}
+
+/// The rank of every weight among the distinct weights (1 = smallest) and
+/// the number of distinct weights. Whole numbers below 2^16 by a table;
+/// anything else by sorting the distinct values (non-negative `f64` order
+/// as their bit patterns, `-0.0` read as `0.0`).
+fn global_ranks(vals: &[f64]) -> (Vec<u32>, usize) {
+    // One pass without early exit (vectorised): whole numbers 1..2^16?
+    let (mut whole, mut top) = (true, 0u32);
+    for c in vals.chunks(256) {
+        for &x in c {
+            let u = x as u32; // saturating; NaN cannot occur
+            whole &= (f64::from(u) == x) & (u >= 1) & (u <= u32::from(u16::MAX));
+            top = top.max(u);
+        }
+        if !whole {
+            break;
+        }
+    }
+    if whole {
+        let top = top as usize;
+        let mut table = vec![0u32; top + 1];
+        for &x in vals {
+            table[x as usize] = 1;
+        }
+        let mut r = 0u32;
+        for t in &mut table {
+            if *t != 0 {
+                r += 1;
+                *t = r;
+            }
+        }
+        (
+            vals.iter().map(|&x| table[x as usize]).collect(),
+            r as usize,
+        )
+    } else {
+        let key = |x: f64| (x + 0.0).to_bits();
+        let mut keys: Vec<u64> = vals.iter().map(|&x| key(x)).collect();
+        keys.sort_unstable();
+        keys.dedup();
+        let ranks = vals
+            .par_iter()
+            .map(|&x| keys.partition_point(|&k| k < key(x)) as u32 + 1)
+            .collect();
+        (ranks, keys.len())
+    }
+}
+
+/// Sorted-order counts `k_l = #{(u, j) : d_u > d_l, 0 < w_lj < w_uj}` for
+/// every member `l` (rows of `ptr`/`idx`/`rank`, lists `0..nlists`).
+fn sorted_counts(
+    ptr: &[usize],
+    idx: &[u32],
+    rank: &[u32],
+    nlists: usize,
+    degrees: &[usize],
+    distinct: usize,
+) -> Vec<u64> {
+    let m = degrees.len();
+    let ord = degree_order(degrees);
+    // Tie groups of the degree order.
+    let mut groups = Vec::new();
+    let mut p = 0;
+    while p < m {
+        let mut q = p + 1;
+        while q < m && degrees[ord[q]] == degrees[ord[p]] {
+            q += 1;
+        }
+        groups.push((p, q));
+        p = q;
+    }
+    // Ranges of lists holding about equal numbers of links.
+    let links = idx.len();
+    let tasks = if links < (1 << 16) || nlists < 64 {
+        1
+    } else {
+        (rayon::current_num_threads() * 2).min(nlists / 32).max(1)
+    };
+    let mut per_listc = vec![0usize; nlists];
+    for &j in idx {
+        per_listc[j as usize] += 1;
+    }
+    let mut cuts = vec![0u32];
+    let mut run = 0usize;
+    for (j, &c) in per_listc.iter().enumerate() {
+        run += c;
+        if run * tasks >= links * cuts.len() && cuts.len() < tasks && j + 1 < nlists {
+            cuts.push(j as u32 + 1);
+        }
+    }
+    cuts.push(nlists as u32);
+    let job = Job {
+        ptr,
+        idx,
+        rank,
+        ord: &ord,
+        groups: &groups,
+        whole: cuts.len() == 2,
+    };
+    let parts: Vec<Vec<u64>> = cuts
+        .windows(2)
+        .collect::<Vec<_>>()
+        .into_par_iter()
+        .map(|c| {
+            let (lo, hi) = (c[0], c[1]);
+            match distinct + 1 {
+                w if w <= 16 => job.bands::<16>(lo, hi),
+                w if w <= 32 => job.bands::<32>(lo, hi),
+                w if w <= BAND_MAX => job.bands::<BAND_MAX>(lo, hi),
+                w => job.fenwick(lo, hi, w),
+            }
+        })
+        .collect();
+    add_up(parts, m)
+}
+
+/// One task of [`sorted_counts`]: the lists `lo..hi`.
+struct Job<'a> {
+    ptr: &'a [usize],
+    idx: &'a [u32],
+    rank: &'a [u32],
+    ord: &'a [usize],
+    groups: &'a [(usize, usize)],
+    /// One task holds every list (no search for the range).
+    whole: bool,
+}
+
+impl Job<'_> {
+    /// The links of member `i` in lists `lo..hi`.
+    fn span(&self, i: usize, lo: u32, hi: u32) -> std::ops::Range<usize> {
+        let (a, b) = (self.ptr[i], self.ptr[i + 1]);
+        if self.whole {
+            return a..b;
+        }
+        let s = &self.idx[a..b];
+        a + s.partition_point(|&j| j < lo)..a + s.partition_point(|&j| j < hi)
+    }
+
+    /// Per-rank counters: `band[j][t]` = members of list `j` visited so far
+    /// with a rank above `t`.
+    fn bands<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx512bw") {
+                // SAFETY: the CPU supports avx512f and avx512bw (checked).
+                return unsafe { self.bands_avx512::<W>(lo, hi) };
+            }
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: the CPU supports avx2 (checked).
+                return unsafe { self.bands_avx2::<W>(lo, hi) };
+            }
+        }
+        self.bands_body::<W>(lo, hi)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx512f,avx512bw")]
+    fn bands_avx512<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        self.bands_body::<W>(lo, hi)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn bands_avx2<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        self.bands_body::<W>(lo, hi)
+    }
+
+    #[inline(always)]
+    fn bands_body<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        let mut hits = vec![0u64; self.ptr.len() - 1];
+        let mut band = vec![[0u32; W]; (hi - lo) as usize];
+        let last = self.groups.len();
+        for (g, &(p, q)) in self.groups.iter().enumerate() {
+            for &i in &self.ord[p..q] {
+                let mut c = 0u64;
+                for e in self.span(i, lo, hi) {
+                    c += u64::from(band[(self.idx[e] - lo) as usize][self.rank[e] as usize]);
+                }
+                hits[i] = c;
+            }
+            if g + 1 == last {
+                break;
+            }
+            for &i in &self.ord[p..q] {
+                for e in self.span(i, lo, hi) {
+                    let (b, r) = (&mut band[(self.idx[e] - lo) as usize], self.rank[e]);
+                    for (t, x) in b.iter_mut().enumerate() {
+                        *x += u32::from((t as u32) < r);
+                    }
+                }
+            }
+        }
+        hits
+    }
+
+    /// A Fenwick tree over ranks `1..w` per list, counts above a rank as
+    /// the list's members so far minus those at or below it.
+    fn fenwick(&self, lo: u32, hi: u32, w: usize) -> Vec<u64> {
+        let mut hits = vec![0u64; self.ptr.len() - 1];
+        let lists = (hi - lo) as usize;
+        let mut tree = vec![0u32; lists * w];
+        let mut seen = vec![0u32; lists];
+        let last = self.groups.len();
+        for (g, &(p, q)) in self.groups.iter().enumerate() {
+            for &i in &self.ord[p..q] {
+                let mut c = 0u64;
+                for e in self.span(i, lo, hi) {
+                    let j = (self.idx[e] - lo) as usize;
+                    let t = &tree[j * w..(j + 1) * w];
+                    let (mut k, mut below) = (self.rank[e] as usize, 0u32);
+                    while k > 0 {
+                        below += t[k];
+                        k &= k - 1;
+                    }
+                    c += u64::from(seen[j] - below);
+                }
+                hits[i] = c;
+            }
+            if g + 1 == last {
+                break;
+            }
+            for &i in &self.ord[p..q] {
+                for e in self.span(i, lo, hi) {
+                    let j = (self.idx[e] - lo) as usize;
+                    seen[j] += 1;
+                    let t = &mut tree[j * w..(j + 1) * w];
+                    let mut k = self.rank[e] as usize;
+                    while k < w {
+                        t[k] += 1;
+                        k += k & k.wrapping_neg();
+                    }
+                }
+            }
+        }
+        hits
+    }
+}
+
+/// Given-order counts `k_l = sum over lists of #{earlier members u :
+/// d_u > d_l, rank_u > rank_l}` for the members `0..degrees.len()`.
+fn given_counts(
+    ptr: &[usize],
+    idx: &[u32],
+    rank: &[u32],
+    degrees: &[usize],
+    distinct: usize,
+) -> Vec<u64> {
+    let top = degrees.iter().copied().max().unwrap_or(0).max(distinct);
+    if top <= u16::MAX as usize {
+        given_lanes::<u16>(ptr, idx, rank, degrees)
+    } else {
+        given_lanes::<u32>(ptr, idx, rank, degrees)
+    }
+}
+
+/// An unsigned lane of the given-order pair loop.
+trait Lane: Copy + Ord + Send + Sync + Default {
+    fn of(x: usize) -> Self;
+    fn one_if(b: bool) -> Self;
+    fn wrapping_add(self, o: Self) -> Self;
+    fn wide(self) -> u64;
+}
+
+macro_rules! lane {
+    ($t:ty) => {
+        impl Lane for $t {
+            #[inline(always)]
+            fn of(x: usize) -> Self {
+                x as $t
+            }
+            #[inline(always)]
+            fn one_if(b: bool) -> Self {
+                b as $t
+            }
+            #[inline(always)]
+            fn wrapping_add(self, o: Self) -> Self {
+                <$t>::wrapping_add(self, o)
+            }
+            #[inline(always)]
+            fn wide(self) -> u64 {
+                u64::from(self)
+            }
+        }
+    };
+}
+lane!(u16);
+lane!(u32);
+
+fn given_lanes<T: Lane>(ptr: &[usize], idx: &[u32], rank: &[u32], degrees: &[usize]) -> Vec<u64> {
+    per_list(
+        ptr.len() - 1,
+        degrees.len(),
+        || (Vec::<T>::new(), Vec::<T>::new()),
+        |j, acc, (d, r)| {
+            let (a, b) = (ptr[j], ptr[j + 1]);
+            let members = &idx[a..b];
+            d.clear();
+            d.extend(members.iter().map(|&l| T::of(degrees[l as usize])));
+            r.clear();
+            r.extend(rank[a..b].iter().map(|&x| T::of(x as usize)));
+            given_pairs(d, r, members, acc);
+        },
+    )
+}
+
+/// `acc[members[b]] += #{a < b : d[a] > d[b], r[a] > r[b]}` for every `b`.
+fn given_pairs<T: Lane>(d: &[T], r: &[T], members: &[u32], acc: &mut [u64]) {
+    #[cfg(target_arch = "x86_64")]
+    {
+        if std::arch::is_x86_feature_detected!("avx512bw") {
+            // SAFETY: the CPU supports avx512f and avx512bw (checked).
+            return unsafe { given_pairs_avx512(d, r, members, acc) };
+        }
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports avx2 (checked).
+            return unsafe { given_pairs_avx2(d, r, members, acc) };
+        }
+    }
+    given_pairs_body(d, r, members, acc)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx512bw")]
+fn given_pairs_avx512<T: Lane>(d: &[T], r: &[T], members: &[u32], acc: &mut [u64]) {
+    given_pairs_body(d, r, members, acc)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn given_pairs_avx2<T: Lane>(d: &[T], r: &[T], members: &[u32], acc: &mut [u64]) {
+    given_pairs_body(d, r, members, acc)
+}
+
+#[inline(always)]
+fn given_pairs_body<T: Lane>(d: &[T], r: &[T], members: &[u32], acc: &mut [u64]) {
+    // Counts are kept in the lane type over blocks short enough not to wrap.
+    const BLOCK: usize = 1 << 15;
+    for b in 1..d.len() {
+        let (db, rb) = (d[b], r[b]);
+        let mut total = 0u64;
+        for (dc, rc) in d[..b].chunks(BLOCK).zip(r[..b].chunks(BLOCK)) {
+            let mut c = T::default();
+            for (&da, &ra) in dc.iter().zip(rc) {
+                c = c.wrapping_add(T::one_if((da > db) & (ra > rb)));
+            }
+            total += c.wide();
+        }
+        acc[members[b] as usize] += total;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::metrics::wnodf::csr::wnodf_csr_with;
+    use crate::storage::lists::PAIR_LIMIT;
+
+    fn lcg(seed: u64) -> impl FnMut() -> u64 {
+        let mut x = seed.wrapping_mul(0x9E37_79B9_7F4A_7C15) | 1;
+        move || {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x
+        }
+    }
+
+    /// Every variant (bands of 16, 32 and 64 counters, Fenwick trees, one
+    /// task and several, 16- and 32-bit lanes) equals the list kernels of
+    /// `csr.rs` (checked against the definition in tests/fast_paths.rs) on
+    /// seeded random networks with ties, zeros and many distinct weights.
+    #[test]
+    fn variants_equal_list_kernels() {
+        for seed in 0..60u64 {
+            let mut r = lcg(seed);
+            let (m, n) = (2 + (r() % 90) as usize, 2 + (r() % 90) as usize);
+            let fill = 5 + r() % 90;
+            // 3, 20, 50 or 500 distinct weights, or fractional ones.
+            let top = [3u64, 20, 50, 500, 0][(seed % 5) as usize];
+            let mut triplets = Vec::new();
+            for i in 0..m {
+                for j in 0..n {
+                    if r() % 100 < fill {
+                        let w = if top == 0 {
+                            (1 + r() % 1000) as f64 / 7.0
+                        } else {
+                            (1 + r() % top) as f64
+                        };
+                        triplets.push((i as u32, j as u32, w));
+                    }
+                }
+            }
+            if triplets.is_empty() {
+                continue;
+            }
+            let csr = Csr::from_triplets(m, n, triplets);
+            for order in [Order::Sorted, Order::Given] {
+                let want = wnodf_csr_with(&csr, order, PAIR_LIMIT).unwrap();
+                match wnodf_ranked(&csr, order) {
+                    Some(got) => assert_eq!(got.unwrap(), want, "seed {seed} {order}"),
+                    // Left to the list kernels: only Fenwick trees above budget.
+                    None => assert!(order == Order::Sorted && global_ranks(csr.values()).1 >= 64),
+                }
+            }
+            // Forced variants on the row side.
+            let (ranks, distinct) = global_ranks(csr.values());
+            let rd = list_degrees(csr.indptr());
+            let want = sorted_counts(csr.indptr(), csr.indices(), &ranks, n, &rd, distinct);
+            let ord = degree_order(&rd);
+            let mut groups = Vec::new();
+            let mut p = 0;
+            while p < m {
+                let mut q = p + 1;
+                while q < m && rd[ord[q]] == rd[ord[p]] {
+                    q += 1;
+                }
+                groups.push((p, q));
+                p = q;
+            }
+            for whole in [true, false] {
+                let job = Job {
+                    ptr: csr.indptr(),
+                    idx: csr.indices(),
+                    rank: &ranks,
+                    ord: &ord,
+                    groups: &groups,
+                    whole,
+                };
+                // One task over every list, or two over a split of them.
+                let mid = (n / 3) as u32;
+                let split = |f: &dyn Fn(u32, u32) -> Vec<u64>| {
+                    if whole {
+                        f(0, n as u32)
+                    } else {
+                        add_up(vec![f(0, mid), f(mid, n as u32)], m)
+                    }
+                };
+                assert_eq!(split(&|a, b| job.fenwick(a, b, distinct + 1)), want);
+                assert_eq!(split(&|a, b| job.fenwick(a, b, distinct + 7)), want);
+                if distinct < 64 {
+                    assert_eq!(split(&|a, b| job.bands::<64>(a, b)), want);
+                    assert_eq!(split(&|a, b| job.bands_body::<64>(a, b)), want);
+                }
+            }
+            let (cptr, cidx, cranks) =
+                transpose_lists(n, csr.indptr(), csr.indices(), Some(&ranks), None);
+            let cranks = cranks.unwrap();
+            let narrow = given_lanes::<u16>(&cptr, &cidx, &cranks, &rd);
+            assert_eq!(given_lanes::<u32>(&cptr, &cidx, &cranks, &rd), narrow);
+        }
+    }
+
+    /// Ranks keep the order of the weights, whole or not.
+    #[test]
+    fn ranks_keep_order() {
+        let (r, k) = global_ranks(&[3.0, 1.0, 3.0, 70000.0, 2.0]);
+        assert_eq!((r, k), (vec![3, 1, 3, 4, 2], 4));
+        let (r, k) = global_ranks(&[0.5, 2.0, 0.25, 2.0]);
+        assert_eq!((r, k), (vec![2, 3, 1, 3], 3));
+        let (r, k) = global_ranks(&[7.0, 5.0, 7.0]);
+        assert_eq!((r, k), (vec![2, 1, 2], 2));
+    }
+}
