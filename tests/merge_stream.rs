@@ -483,3 +483,43 @@ fn merge_memory_does_not_grow_with_the_draws() {
     eprintln!("index pass: peak {peak} bytes");
     assert!(peak < 256 << 10, "index peak {peak} bytes");
 }
+
+/// Reproducer 6 with shards: a shard interrupted after 10 of its 1,000
+/// draws (what SIGINT leaves: a whole section with its trailer) is refused
+/// by `merge` naming the shard, the part and how to continue it; a part
+/// holding only the first draws of an unsplit run likewise.
+#[test]
+fn interrupted_shard_is_refused_with_how_to_continue() {
+    let net_path = net_file("int.csv");
+    let net = network();
+    let parts = library_shards(&net, s(&net_path), "int", 3000, 3);
+    let mut c = config(3000, 11);
+    c.shard = Some(Shard::new(2, 3).unwrap());
+    let run = run_null(&net, &c).unwrap();
+    let mut text = Vec::new();
+    let mut w = SectionWriter::begin(&run, s(&net_path), &mut text).unwrap();
+    for (k, v) in run.draw_ids.iter().zip(&run.values).take(10) {
+        w.draw(*k, v).unwrap();
+    }
+    w.end().unwrap();
+    let p = scratch("int.2.short.tsv");
+    std::fs::write(&p, text).unwrap();
+    let o = nidus(&["merge", s(&parts[0]), s(&p), s(&parts[2])]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(
+        e.contains("shard 2/3")
+            && e.contains("holds 10 of its 1000 draws")
+            && e.contains("--resume"),
+        "{e}"
+    );
+    assert!(o.stdout.is_empty());
+    let first = partial_file("int.whole.tsv", s(&net_path), &(0..10).collect::<Vec<_>>());
+    let o = nidus(&["merge", s(&first)]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("10 of the 3000 draws"),
+        "{}",
+        stderr(&o)
+    );
+}

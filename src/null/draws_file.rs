@@ -708,15 +708,15 @@ impl<R: std::io::BufRead> LineReader<R> {
         }
         if k > body.next {
             let after = if body.count == 0 {
-                "the section starts".to_string()
+                format!("the section starts with draw {k}")
             } else {
                 format!("draw {k} follows draw {}", body.next - body.step)
             };
             return Err(self.err(
                 Some(1),
                 format!(
-                    "{after} with draw {k}: draw {} is missing (a gap in the draw numbers; \
-                     the part is damaged or was edited)",
+                    "{after}: draw {} is missing (a gap in the draw numbers; the part is \
+                     damaged or was edited, and a run is never resumed past a gap)",
                     body.next
                 ),
             ));
