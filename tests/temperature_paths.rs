@@ -209,3 +209,22 @@ fn few_members_beyond_the_side_limit() {
     let e = temperature(&b, &TemperatureOptions::default()).unwrap_err();
     assert!(e.to_string().contains("temperature-sorted"), "{e}");
 }
+
+/// The few-members search gives the same packing on one thread and on
+/// three (the small-side orders are solved in parallel, the best picked in
+/// enumeration order).
+#[test]
+fn few_members_packing_is_the_same_for_any_thread_count() {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(8);
+    let b = BitMatrix::from_fn(4, 300, |_, _| rng.random_bool(0.4));
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| packed_few_members(&b).unwrap())
+    };
+    let (one, three) = (run(1), run(3));
+    assert_eq!(one.0.to_bits(), three.0.to_bits());
+    assert_eq!((one.1, one.2), (three.1, three.2));
+}

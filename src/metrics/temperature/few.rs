@@ -30,6 +30,8 @@
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;
 
+use rayon::prelude::*;
+
 use super::{for_each_permutation, Candidate, UnexpectednessTable};
 use crate::storage::BitMatrix;
 
@@ -238,40 +240,49 @@ pub(super) fn pack_few(
             delta[t * n + s]
         }
     };
-    let mut w = vec![0.0; c * big];
-    for_each_permutation(k, |order| {
-        // order[s] = small member at position s.
-        for (a, (code, _)) in pats.iter().enumerate() {
-            let row = &mut w[a * big..(a + 1) * big];
-            row.fill(0.0);
-            for (s, &member) in order.iter().enumerate() {
-                if (code >> member) & 1 == 1 {
-                    for (t, x) in row.iter_mut().enumerate() {
-                        *x += d(s, t);
+    let mut orders: Vec<Vec<usize>> = Vec::new();
+    for_each_permutation(k, |order| orders.push(order.to_vec()));
+    // Each small-side order is solved on its own (in parallel); the best is
+    // then picked in enumeration order, so ties keep the first found and
+    // the result does not depend on the number of threads.
+    let found: Vec<Candidate> = orders
+        .par_iter()
+        .map(|order| {
+            // order[s] = small member at position s.
+            let mut w = vec![0.0; c * big];
+            for (a, (code, _)) in pats.iter().enumerate() {
+                let row = &mut w[a * big..(a + 1) * big];
+                for (s, &member) in order.iter().enumerate() {
+                    if (code >> member) & 1 == 1 {
+                        for (t, x) in row.iter_mut().enumerate() {
+                            *x += d(s, t);
+                        }
                     }
                 }
             }
+            let of = transport(&w, &supply, big);
+            let mut next = vec![0usize; c];
+            let big_order: Vec<usize> = of
+                .iter()
+                .map(|&a| {
+                    let member = pats[a].1[next[a]];
+                    next[a] += 1;
+                    member
+                })
+                .collect();
+            let (rows, cols) = if small_rows {
+                (order.clone(), big_order)
+            } else {
+                (big_order, order.clone())
+            };
+            (table.total(b, &rows, &cols), rows, cols)
+        })
+        .collect();
+    for cand in found {
+        if cand.0 < best.0 {
+            best = cand;
         }
-        let of = transport(&w, &supply, big);
-        let mut next = vec![0usize; c];
-        let big_order: Vec<usize> = of
-            .iter()
-            .map(|&a| {
-                let member = pats[a].1[next[a]];
-                next[a] += 1;
-                member
-            })
-            .collect();
-        let (rows, cols) = if small_rows {
-            (order.to_vec(), big_order)
-        } else {
-            (big_order, order.to_vec())
-        };
-        let total = table.total(b, &rows, &cols);
-        if total < best.0 {
-            best = (total, rows, cols);
-        }
-    });
+    }
     best
 }
 
