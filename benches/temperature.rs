@@ -8,6 +8,10 @@
 //! by the register-lane loop (the default), the blocked loop it replaced
 //! and the direct gather loop before that (same result bit for bit), side
 //! by side; N = 300, and 1000 with `NIDUS_BENCH_LARGE`.
+//!
+//! `packing_few_members/{1x100000,5x1000}` time the exact packing of a
+//! table whose smaller side has 1 or 5 members (5 x 5,000 with
+//! `NIDUS_BENCH_LARGE`), at fill 0.3.
 #![allow(missing_docs)] // criterion's macros generate undocumented functions
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
@@ -15,7 +19,7 @@ use rand::{Rng, SeedableRng};
 use rand_xoshiro::Xoshiro256PlusPlus;
 
 use nidus::metrics::temperature::{
-    temperature, temperature_with_table, temperature_with_table_blocked,
+    packed_few_members, temperature, temperature_with_table, temperature_with_table_blocked,
     temperature_with_table_direct_gathers, TemperatureOptions, UnexpectednessTable,
 };
 use nidus::BitMatrix;
@@ -92,5 +96,23 @@ fn bench(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, bench);
+fn few_members(c: &mut Criterion) {
+    let mut group = c.benchmark_group("packing_few_members");
+    group.sample_size(10);
+    let mut shapes = vec![(1usize, 100_000usize), (5, 1000)];
+    if std::env::var_os("NIDUS_BENCH_LARGE").is_some() {
+        shapes.push((5, 5000));
+    }
+    for (m, n) in shapes {
+        let b = random_bits(m, n, 0.3, 44);
+        group.bench_with_input(
+            BenchmarkId::from_parameter(format!("{m}x{n}")),
+            &b,
+            |bch, b| bch.iter(|| packed_few_members(b).unwrap().0),
+        );
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench, few_members);
 criterion_main!(benches);

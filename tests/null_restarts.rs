@@ -356,3 +356,62 @@ fn huge_restarts_are_refused() {
     let e = parse_draws(&bad, &saved).unwrap_err().to_string();
     assert!(e.contains("needs the number of random starts"), "{e}");
 }
+
+/// `--resume` refuses saved draws made with other restarts (the same check
+/// as `merge`), and continues those made with the same.
+#[test]
+fn resume_checks_the_restarts() {
+    let (w, _) = network(14, 8, 9);
+    let f = scratch("resume.csv");
+    write_matrix_file(&f, &w);
+    let f = f.to_str().unwrap();
+    let saved = scratch("resume-draws.tsv");
+    let again = scratch("resume-again.tsv");
+    let run = |restarts: &str, extra: &[&str]| {
+        let mut a = vec![
+            "null",
+            f,
+            "--model",
+            "equiprobable",
+            "--index",
+            "temperature",
+            "--draws",
+            "6",
+            "--seed",
+            "3",
+            "--restarts",
+            restarts,
+        ];
+        a.extend_from_slice(extra);
+        a.iter().map(|s| s.to_string()).collect::<Vec<_>>()
+    };
+    let first = run("1", &["--save-draws", saved.to_str().unwrap()]);
+    let first: Vec<&str> = first.iter().map(String::as_str).collect();
+    let whole = ok(&first);
+    let other = run(
+        "2",
+        &[
+            "--resume",
+            saved.to_str().unwrap(),
+            "--save-draws",
+            again.to_str().unwrap(),
+        ],
+    );
+    let other: Vec<&str> = other.iter().map(String::as_str).collect();
+    let e = refused(&other);
+    assert!(
+        e.contains("restarts (temperature packing) Some(2) vs Some(1)"),
+        "{e}"
+    );
+    let same = run(
+        "1",
+        &[
+            "--resume",
+            saved.to_str().unwrap(),
+            "--save-draws",
+            again.to_str().unwrap(),
+        ],
+    );
+    let same: Vec<&str> = same.iter().map(String::as_str).collect();
+    assert_eq!(ok(&same), whole);
+}

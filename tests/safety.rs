@@ -758,24 +758,51 @@ fn parts_are_matched_by_content_not_spelling() {
 }
 
 /// Reproducer 9: "Temperature packing allocates max(m, n)^2 and takes
-/// max(m, n)^3: a 1 x 100,000 table aborts on an 80 GB allocation." The
-/// packing search is refused above its side limit, quickly and without the
-/// allocation; the sorted order is still available.
+/// max(m, n)^3: a 1 x 100,000 table aborts on an 80 GB allocation." A side
+/// of at most 5 members is packed exactly without the allocation: for one
+/// row every column holds a one or not, so the minimum puts the ones at the
+/// `L` positions where a presence costs least relative to an absence
+/// (`T_min = 100 (sum_t absent(t) + the L smallest present(t) - absent(t))
+/// / (n U_max)`, checked here). Above the side limit with 6 members the
+/// packing is refused, quickly and without the allocation; the sorted
+/// order is still available.
 #[test]
 fn temperature_packing_is_capped_on_the_assignment_side() {
-    use nidus::metrics::temperature::{temperature, TemperatureOptions, PACKING_SIDE_LIMIT};
+    use nidus::metrics::temperature::{
+        temperature, TemperatureOptions, UnexpectednessTable, PACKING_SIDE_LIMIT, U_MAX,
+    };
     let n = 100_000;
     let row: Vec<u8> = (0..n).map(|j| u8::from(j % 3 != 1)).collect();
     let net =
         nidus::Network::from_array(ndarray::Array2::from_shape_vec((1, n), row).unwrap()).unwrap();
     let t0 = std::time::Instant::now();
-    let e = temperature(&net, &TemperatureOptions::default()).unwrap_err();
+    let t = temperature(&net, &TemperatureOptions::default()).unwrap();
+    let links = (0..n).filter(|j| j % 3 != 1).count();
+    let table = UnexpectednessTable::new(1, n, links).unwrap();
+    let mut extra: Vec<f64> = (0..n)
+        .map(|j| table.if_present(0, j) - table.if_absent(0, j))
+        .collect();
+    extra.sort_by(f64::total_cmp);
+    let absent: f64 = (0..n).map(|j| table.if_absent(0, j)).sum();
+    let least: f64 = extra[..links].iter().sum();
+    let want = 100.0 * (absent + least) / (n as f64 * U_MAX);
+    let packed = t.packed.unwrap();
+    assert!(
+        (packed - want).abs() <= 1e-9 * (1.0 + want),
+        "{packed} vs {want}"
+    );
+    assert!(packed <= t.sorted);
+    let rows = 6;
+    let w: Vec<u8> = (0..rows * n).map(|c| u8::from(c % 7 < 3)).collect();
+    let six =
+        nidus::Network::from_array(ndarray::Array2::from_shape_vec((rows, n), w).unwrap()).unwrap();
+    let e = temperature(&six, &TemperatureOptions::default()).unwrap_err();
     assert!(e.to_string().contains("packing"), "{e}");
     assert!(
         t0.elapsed().as_secs() < 30,
         "a guard against the old minutes, not a timing test"
     );
     let opts = TemperatureOptions::default().with_pack(false);
-    assert!(temperature(&net, &opts).is_ok());
+    assert!(temperature(&six, &opts).is_ok());
     assert!(PACKING_SIDE_LIMIT < n);
 }

@@ -3,12 +3,15 @@
 //! computed with root solves for the unexpected cells only, equals bit for
 //! bit the value from the full table of cell values (Atmar & Patterson
 //! 1993, Oecologia 96:373-382; the isocline of Rodriguez-Girones &
-//! Santamaria 2006, J. Biogeogr. 33:924-935; docs/methods.md §4).
+//! Santamaria 2006, J. Biogeogr. 33:924-935; docs/methods.md §4); and the
+//! exact packing for a side of at most 5 members equals the minimum over
+//! every row and column order found by enumeration.
 
 use nidus::index::IndexKind;
 use nidus::metrics::registry::{lookup, IndexOptions};
 use nidus::metrics::temperature::{
-    temperature, unexpected_total, TemperatureOptions, UnexpectednessTable,
+    few_members_applies, packed_few_members, packing_is_exact, temperature, unexpected_total,
+    TemperatureOptions, UnexpectednessTable, PACKING_SIDE_LIMIT,
 };
 use nidus::null::{draw_rng, run_null, NullConfig, NullModel, NullOptions, NullSampler};
 use nidus::{BitMatrix, Network, Statistic};
@@ -102,4 +105,126 @@ fn null_runs_with_changing_links_equal_the_table() {
             }
         }
     }
+}
+
+/// Every permutation of `0..k` (lexicographic), for the enumerations.
+fn perms(k: usize) -> Vec<Vec<usize>> {
+    if k == 0 {
+        return vec![Vec::new()];
+    }
+    let mut out = Vec::new();
+    for p in perms(k - 1) {
+        for at in 0..=p.len() {
+            let mut q = p.clone();
+            q.insert(at, k - 1);
+            out.push(q);
+        }
+    }
+    out
+}
+
+/// The smallest `T` over every row order and every column order: the
+/// definition of the packed temperature, by enumeration.
+fn brute_min(b: &BitMatrix) -> f64 {
+    let (m, n) = (b.nrows(), b.ncols());
+    let table = UnexpectednessTable::new(m, n, b.count_ones()).unwrap();
+    let cols = perms(n);
+    let mut best = f64::INFINITY;
+    for rows in perms(m) {
+        for c in &cols {
+            best = best.min(table.temperature(b, &rows, c));
+        }
+    }
+    best
+}
+
+/// The few-members search reaches the minimum over all row and column
+/// orders (enumerated) on random matrices of 1-4 rows (or columns) and up
+/// to 7 on the other side, and its orders give the `T` it reports.
+#[test]
+fn few_members_packing_equals_enumeration() {
+    for seed in 0..120u64 {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(50_000 + seed);
+        let k = rng.random_range(1..=4);
+        let big = rng.random_range(2..=if k >= 3 { 6 } else { 7 });
+        let fill = rng.random_range(0.15..0.85);
+        let (m, n) = if seed % 2 == 0 { (k, big) } else { (big, k) };
+        let b = BitMatrix::from_fn(m, n, |_, _| rng.random_bool(fill));
+        let (t, rows, cols) = packed_few_members(&b).unwrap();
+        let want = brute_min(&b);
+        assert!(
+            (t - want).abs() <= 1e-9 * (1.0 + want),
+            "seed {seed}: {m} x {n}: {t} vs {want}"
+        );
+        let table = UnexpectednessTable::new(m, n, b.count_ones()).unwrap();
+        assert_eq!(table.temperature(&b, &rows, &cols).to_bits(), t.to_bits());
+    }
+}
+
+/// Where the exhaustive search over the small side applies (up to the
+/// assignment size limit), the few-members search finds the same global
+/// minimum, on both orientations.
+#[test]
+fn few_members_packing_equals_the_exhaustive_search() {
+    for seed in 0..24u64 {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(60_000 + seed);
+        let k = rng.random_range(1..=5);
+        let big = rng.random_range(8..=60);
+        let fill = rng.random_range(0.1..0.9);
+        let (m, n) = if seed % 2 == 0 { (k, big) } else { (big, k) };
+        let b = BitMatrix::from_fn(m, n, |_, _| rng.random_bool(fill));
+        assert!(packing_is_exact(m, n, b.count_ones()));
+        let exact = temperature(&b, &TemperatureOptions::default())
+            .unwrap()
+            .packed
+            .unwrap();
+        let (t, _, _) = packed_few_members(&b).unwrap();
+        assert!(
+            (t - exact).abs() <= 1e-9 * (1.0 + exact),
+            "seed {seed}: {m} x {n}: {t} vs {exact}"
+        );
+    }
+}
+
+/// Above the assignment size limit, a side of at most 5 members is packed
+/// by the few-members search (issue 10, item 9: a 1 x 100,000 table
+/// aborted on an 80 GB allocation); 6 members there are refused with a
+/// message, not a panic.
+#[test]
+fn few_members_beyond_the_side_limit() {
+    let big = PACKING_SIDE_LIMIT + 500;
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(7);
+    for (m, n) in [(1, big), (big, 3), (4, big)] {
+        let b = BitMatrix::from_fn(m, n, |_, _| rng.random_bool(0.3));
+        assert!(few_members_applies(&b));
+        let t = temperature(&b, &TemperatureOptions::default()).unwrap();
+        let packed = t.packed.unwrap();
+        assert!(packed <= t.sorted);
+        let (few, rows, cols) = packed_few_members(&b).unwrap();
+        assert_eq!(packed.to_bits(), few.to_bits());
+        assert_eq!((t.row_order, t.col_order), (rows, cols));
+    }
+    let b = BitMatrix::from_fn(6, big, |_, _| rng.random_bool(0.3));
+    assert!(!few_members_applies(&b));
+    let e = temperature(&b, &TemperatureOptions::default()).unwrap_err();
+    assert!(e.to_string().contains("temperature-sorted"), "{e}");
+}
+
+/// The few-members search gives the same packing on one thread and on
+/// three (the small-side orders are solved in parallel, the best picked in
+/// enumeration order).
+#[test]
+fn few_members_packing_is_the_same_for_any_thread_count() {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(8);
+    let b = BitMatrix::from_fn(4, 300, |_, _| rng.random_bool(0.4));
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| packed_few_members(&b).unwrap())
+    };
+    let (one, three) = (run(1), run(3));
+    assert_eq!(one.0.to_bits(), three.0.to_bits());
+    assert_eq!((one.1, one.2), (three.1, three.2));
 }

@@ -65,7 +65,12 @@ pub const EXACT_WORK_LIMIT: f64 = 5e7;
 /// Largest side (rows or columns) whose order the packing search finds:
 /// each step solves a `k x k` assignment (`8 k^2` bytes, `O(k^3)` time at
 /// worst) for a side of `k` members, so a 1 x 100,000 table would need an
-/// 80 GB table. Above it packing is refused (use the sorted order).
+/// 80 GB table. Above it the packing is exact by the few-members search
+/// when the smaller side has at most [`FEW_MEMBERS`] members and few
+/// patterns ([`few_members_applies`]: every order of the small side, each
+/// with the optimal order of the large side by a transportation problem
+/// over the patterns of its members), and refused otherwise (use the
+/// sorted order).
 pub const PACKING_SIDE_LIMIT: usize = 2000;
 
 /// Rounds of the alternating search from one start are capped here (each
@@ -752,13 +757,25 @@ fn with_table(
     let sorted = table.to_t(sorted_total);
     let (packed, row_order, col_order) = if opts.pack {
         if m.max(n) > PACKING_SIDE_LIMIT {
-            let k = m.max(n);
-            return Err(Error::TooLarge {
-                what: "temperature's packing search (an assignment over the larger side; \
-                       temperature-sorted or --no-packing avoid it)",
-                rows: k,
-                cols: k,
-                bytes: 8 * (k as u128) * (k as u128),
+            if !few::few_members_applies(b) {
+                let k = m.max(n);
+                return Err(Error::TooLarge {
+                    what: "temperature's packing search (an assignment over the larger side, \
+                           or an exact search when the smaller side has at most 5 members and \
+                           few patterns; temperature-sorted or --no-packing avoid it)",
+                    rows: k,
+                    cols: k,
+                    bytes: 8 * (k as u128) * (k as u128),
+                });
+            }
+            let best = pack_few_members(b, table, (sorted_total, sorted_rows, sorted_cols));
+            return Ok(Temperature {
+                given,
+                sorted,
+                packed: Some(table.to_t(best.0)),
+                isocline_p: table.p,
+                row_order: best.1,
+                col_order: best.2,
             });
         }
         let best = pack(
@@ -1156,7 +1173,9 @@ fn for_each_permutation(k: usize, mut visit: impl FnMut(&[usize])) {
 /// search (every order of the smaller side, see [`TemperatureOptions`]), so
 /// that the packed `T` is the global minimum; false when it uses the
 /// alternating search. Rule: `k = min(m, n) <= 8` and
-/// `k! (K^3 + K L + m n) <= EXACT_WORK_LIMIT` with `K = max(m, n)`.
+/// `k! (K^3 + K L + m n) <= EXACT_WORK_LIMIT` with `K = max(m, n)`. (Above
+/// [`PACKING_SIDE_LIMIT`] members the few-members search is exact as well:
+/// see [`few_members_applies`].)
 ///
 /// # Example
 /// ```
@@ -1186,6 +1205,40 @@ pub(crate) fn start_orders(seed: u64, k: u64, m: usize, n: usize) -> (Vec<usize>
     shuffle(&mut rows, &mut rng);
     shuffle(&mut cols, &mut rng);
     (rows, cols)
+}
+
+/// The packed order by the exact few-members search ([`few`]): the best of
+/// the sorted candidate and the optimum over every order of the small side.
+fn pack_few_members(b: &BitMatrix, table: &UnexpectednessTable, sorted: Candidate) -> Candidate {
+    let (m, n) = (b.nrows(), b.ncols());
+    if table.links == 0 || table.links == m * n || sorted.0 == 0.0 {
+        return sorted; // nothing can be lower than 0
+    }
+    few::pack_few(b, table, sorted)
+}
+
+/// The packed `T` of `b` by the exact search for a side of at most
+/// [`FEW_MEMBERS`] members (the search used above
+/// [`PACKING_SIDE_LIMIT`] members; any size here, for tests and timing):
+/// `(T, row order, column order)`. Not part of the API.
+///
+/// Errors: a smaller side of more than 5 members, or as [`temperature`].
+#[doc(hidden)]
+pub fn packed_few_members(b: &BitMatrix) -> Result<(f64, Vec<usize>, Vec<usize>)> {
+    let (m, n) = (b.nrows(), b.ncols());
+    check_size(m, n)?;
+    if m.min(n) > few::FEW_MEMBERS {
+        return Err(Error::InvalidArgument(format!(
+            "the few-members packing needs a side of at most {} members, not {m} x {n}",
+            few::FEW_MEMBERS
+        )));
+    }
+    let table = UnexpectednessTable::new(m, n, b.count_ones())?;
+    let rows = degree_order(&b.row_degrees());
+    let cols = degree_order(&b.col_degrees());
+    let total = table.total(b, &rows, &cols);
+    let best = pack_few_members(b, &table, (total, rows, cols));
+    Ok((table.to_t(best.0), best.1, best.2))
 }
 
 /// The packed order: the best of the sorted candidate and the search (exact
@@ -1231,6 +1284,9 @@ fn pack(
     }
     best
 }
+
+mod few;
+pub use few::{few_members_applies, FEW_MEMBERS, FEW_MEMBERS_WORK_LIMIT};
 
 #[cfg(test)]
 mod tests;
