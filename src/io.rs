@@ -246,8 +246,10 @@ pub struct ReadOptions {
 /// line and field for malformed text; [`Error::EmptyNetwork`] when no cell is
 /// non-zero.
 ///
-/// Cost: `O(file size)` to read and parse, plus `O(L log L)` to sum the
-/// lines of an edge list; memory: the file's bytes plus the network.
+/// Cost: `O(file size)` to read and parse, plus, to sum the lines of an
+/// edge list, a counting sort by row and a sort of each row's lines
+/// (`O(L log d)` for `L` lines and rows of at most `d` lines); memory: the
+/// file's bytes plus the network.
 ///
 /// # Example
 /// ```

@@ -74,36 +74,44 @@ impl<T: Weight> Csr<T> {
         for i in 0..nrows {
             start[i + 1] += start[i];
         }
+        // Scatter into row order, in the arrays that are kept.
         let mut next = start.clone();
-        let mut by_row: Vec<(u32, T)> = vec![(0, T::zero()); entries.len()];
+        let mut indices = vec![0u32; entries.len()];
+        let mut values: Vec<T> = vec![T::zero(); entries.len()];
         for (i, j, w) in entries {
             let slot = &mut next[i as usize];
-            by_row[*slot] = (j, w);
+            indices[*slot] = j;
+            values[*slot] = w;
             *slot += 1;
         }
         drop(next);
+        // Sort each row by column (stably), sum repeats in input order and
+        // drop zero cells, compacting in place.
         let mut indptr = vec![0usize; nrows + 1];
-        let mut indices = Vec::with_capacity(by_row.len());
-        let mut values: Vec<T> = Vec::with_capacity(by_row.len());
+        let mut out = 0;
         for i in 0..nrows {
-            let row = &mut by_row[start[i]..start[i + 1]];
-            row.sort_by_key(|&(j, _)| j); // stable: repeats summed in input order
-            let mut k = 0;
-            while k < row.len() {
-                let (j, mut w) = row[k];
+            let (a, b) = (start[i], start[i + 1]);
+            sort_row(&mut indices[a..b], &mut values[a..b]);
+            let mut k = a;
+            while k < b {
+                let j = indices[k];
+                let mut w = values[k];
                 k += 1;
-                while k < row.len() && row[k].0 == j {
-                    w = w + row[k].1;
+                while k < b && indices[k] == j {
+                    w = w + values[k];
                     k += 1;
                 }
                 // Drop zero cells (a zero weight, or zeros summed).
                 if !w.is_zero() {
-                    indices.push(j);
-                    values.push(w);
+                    indices[out] = j;
+                    values[out] = w;
+                    out += 1;
                 }
             }
-            indptr[i + 1] = indices.len();
+            indptr[i + 1] = out;
         }
+        indices.truncate(out);
+        values.truncate(out);
         Csr {
             nrows,
             ncols,
@@ -251,6 +259,35 @@ impl Csr<f64> {
     /// lengths cannot change); the caller keeps every row ascending.
     pub(crate) fn lists_mut(&mut self) -> (&[usize], &mut [u32]) {
         (&self.indptr, &mut self.indices)
+    }
+}
+
+/// Sorts one row's cells by column, stably (equal columns keep their
+/// order): an insertion sort for short rows, a library stable sort of pairs
+/// for long ones.
+fn sort_row<T: Copy>(cols: &mut [u32], vals: &mut [T]) {
+    if cols.len() <= 32 {
+        for k in 1..cols.len() {
+            let (j, w) = (cols[k], vals[k]);
+            let mut p = k;
+            while p > 0 && cols[p - 1] > j {
+                cols[p] = cols[p - 1];
+                vals[p] = vals[p - 1];
+                p -= 1;
+            }
+            cols[p] = j;
+            vals[p] = w;
+        }
+        return;
+    }
+    if cols.is_sorted() {
+        return;
+    }
+    let mut pairs: Vec<(u32, T)> = cols.iter().copied().zip(vals.iter().copied()).collect();
+    pairs.sort_by_key(|&(j, _)| j);
+    for ((c, v), (j, w)) in cols.iter_mut().zip(vals.iter_mut()).zip(pairs) {
+        *c = j;
+        *v = w;
     }
 }
 
@@ -799,7 +836,13 @@ mod tests {
         use rand::{Rng, SeedableRng};
         let weights = [0.0, 0.1, 0.2, 1.0, -1.0, 1e16, -1e16, 3.0];
         let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(7);
-        for (m, n, len) in [(1, 1, 5), (3, 4, 40), (50, 7, 2000), (200, 300, 500)] {
+        for (m, n, len) in [
+            (1, 1, 5),
+            (3, 4, 40),
+            (50, 7, 2000),
+            (200, 300, 500),
+            (2, 1000, 3000),
+        ] {
             let entries: Vec<(u32, u32, f64)> = (0..len)
                 .map(|_| {
                     (
