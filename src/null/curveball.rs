@@ -198,9 +198,24 @@ impl CurveballChain {
         if only_a == 0 || only_a == total {
             return;
         }
+        if total <= 64 {
+            // The mask fits in one word; the pool's columns in increasing
+            // order take ranks 0, 1, 2, ...
+            let mut pick = subset_word::<R, BMI2>(&mut draws, rng, total, only_a);
+            for (x, y) in ra.iter_mut().zip(rb.iter_mut()) {
+                let d = *x ^ *y;
+                if d == 0 {
+                    continue;
+                }
+                let give_a = deposit::<BMI2>(pick, d);
+                pick = pick.checked_shr(d.count_ones()).unwrap_or(0);
+                *x = (*x & !d) | give_a;
+                *y = (*y & !d) | (d ^ give_a);
+            }
+            return;
+        }
         if total <= 128 {
-            // The mask fits in one register; the pool's columns in
-            // increasing order take ranks 0, 1, 2, ...
+            // Two words in one register.
             let mut pick = subset_small::<R, BMI2>(&mut draws, rng, total, only_a);
             for (x, y) in ra.iter_mut().zip(rb.iter_mut()) {
                 let d = *x ^ *y;
@@ -321,6 +336,40 @@ fn subset_small<R: Rng + ?Sized, const BMI2: bool>(
     }
     while c < k {
         w |= select128::<BMI2>(!w & low, draws.below(rng, t - c));
+        c += 1;
+    }
+    w
+}
+
+/// [`subset_small`] for `t <= 64` in one 64-bit word: the same draws from
+/// the stream and the same subset, with narrower operations.
+#[inline(always)]
+fn subset_word<R: Rng + ?Sized, const BMI2: bool>(
+    draws: &mut Halves,
+    rng: &mut R,
+    t: usize,
+    k: usize,
+) -> u64 {
+    debug_assert!(0 < k && k < t && t <= 64);
+    let low = u64::MAX >> (64 - t);
+    let s = k.min(t - k);
+    if 8 * s < t {
+        let mut pick = 0u64;
+        for j in t - s..t {
+            let r = draws.below(rng, j + 1);
+            let r = if (pick >> r) & 1 == 0 { r } else { j };
+            pick |= 1 << r;
+        }
+        return if s == k { pick } else { !pick & low };
+    }
+    let mut w = coins(rng, eighths(t, k)) & low;
+    let mut c = w.count_ones() as usize;
+    while c > k {
+        w ^= select::<BMI2>(w, draws.below(rng, c));
+        c -= 1;
+    }
+    while c < k {
+        w |= select::<BMI2>(!w & low, draws.below(rng, t - c));
         c += 1;
     }
     w
@@ -672,6 +721,38 @@ mod tests {
                             (c as f64 - draws as f64 * p).abs() < 5.0 * sd,
                             "t {t}, k {k}, {path:?}: {c} of {draws}"
                         );
+                    }
+                }
+            }
+        }
+    }
+
+    /// The one-word sampler draws the same subsets as the two-word one
+    /// from the same stream (so the trade may take either for `t <= 64`).
+    #[test]
+    fn one_word_subsets_equal_two_word_subsets() {
+        for path in Path::available() {
+            #[cfg(target_arch = "x86_64")]
+            let bmi2 = path == Path::Bmi2;
+            #[cfg(not(target_arch = "x86_64"))]
+            let bmi2 = false;
+            let (mut r1, mut r2) = (draw_rng(23, 0), draw_rng(23, 0));
+            for t in 2..=64usize {
+                for k in 1..t {
+                    for _ in 0..20 {
+                        let (mut h1, mut h2) = (Halves::default(), Halves::default());
+                        let (x, y) = if bmi2 {
+                            (
+                                subset_word::<_, true>(&mut h1, &mut r1, t, k),
+                                subset_small::<_, true>(&mut h2, &mut r2, t, k),
+                            )
+                        } else {
+                            (
+                                subset_word::<_, false>(&mut h1, &mut r1, t, k),
+                                subset_small::<_, false>(&mut h2, &mut r2, t, k),
+                            )
+                        };
+                        assert_eq!(u128::from(x), y, "t {t}, k {k}, {path:?}");
                     }
                 }
             }
