@@ -12,11 +12,12 @@
 //! `null_fixed_both_nodf/200` times one curveball draw plus its NODF
 //! (throughput: draws per second), `null_fixed_both_nodf_lists/200` the
 //! same with the pre-word-level trade kept in `support/curveball_lists.rs`
-//! (side-by-side comparison); `null_sparse_fixed_both_nodf/100000` one
-//! `fixed-both` draw (drawn as row lists) plus its NODF of a sparse
-//! 100,000 x 100,000 network with about 10^6 links;
-//! `temperature_packing/200` one packed temperature with the default
-//! starts.
+//! and `null_fixed_both_nodf_floyd/200` with the first word-level trade
+//! (Floyd subsets only) kept in `support/curveball_floyd.rs` (side-by-side
+//! comparisons); `null_sparse_fixed_both_nodf/100000` one `fixed-both`
+//! draw (drawn as row lists) plus its NODF of a sparse 100,000 x 100,000
+//! network with about 10^6 links; `temperature_packing/200` one packed
+//! temperature with the default starts.
 //!
 //! Run: `cargo bench --bench scale` (about 2-3 minutes here). Reference
 //! timings of the general-purpose route (numpy / scipy) on the same shapes:
@@ -28,6 +29,10 @@ mod inputs;
 #[path = "support/curveball_lists.rs"]
 #[allow(missing_docs)]
 mod curveball_lists;
+
+#[path = "support/curveball_floyd.rs"]
+#[allow(missing_docs)]
+mod curveball_floyd;
 
 use std::time::Duration;
 
@@ -207,6 +212,24 @@ fn null_and_packing(c: &mut Criterion) {
         b.iter(|| {
             k += 1;
             let d = lists.sample(&mut draw_rng(11, k));
+            nodf(&d, Order::Sorted).unwrap().total
+        })
+    });
+    g.finish();
+
+    // The first word-level trade (Floyd subsets only), same burn-in and keys.
+    let floyd = BurnIn::new(
+        curveball_floyd::FloydCurveball::new(&net.binary().unwrap()),
+        sampler.burn_in().unwrap(),
+    );
+    let mut g = c.benchmark_group("null_fixed_both_nodf_floyd");
+    g.sample_size(20).warm_up_time(Duration::from_secs(1));
+    g.measurement_time(Duration::from_secs(4));
+    g.throughput(Throughput::Elements(1));
+    g.bench_function(BenchmarkId::from_parameter(200), |b| {
+        b.iter(|| {
+            k += 1;
+            let d = floyd.sample(&mut draw_rng(11, k));
             nodf(&d, Order::Sorted).unwrap().total
         })
     });

@@ -606,3 +606,135 @@ fn fixed_both_uniform_on_many_matrices() {
     assert_eq!(states, 117, "117 by a separate enumeration (Python)");
     check_uniform(&start, 60, 14);
 }
+
+// ---------------------------------------------------------------------------
+// Uniformity of fixed-both on larger pools (Strona et al. 2014, Nat. Commun.
+// 5:4114; the curveball chain is uniform over the matrices with the given
+// margins: Carstens 2015, Phys. Rev. E 91:042812), against every matrix
+// with the margins listed by backtracking.
+
+/// Every `m x n` binary matrix with row degrees `rows` and column degrees
+/// `cols`, as the words of its `BitMatrix`, listed row by row by
+/// backtracking (no column over its degree; a finished row leaves no column
+/// needing more ones than rows are left).
+fn enumerate_margins(rows: &[usize], cols: &[usize]) -> Vec<Vec<u64>> {
+    struct Walk<'a> {
+        rows: &'a [usize],
+        left: Vec<usize>,
+        cur: BitMatrix,
+        out: Vec<Vec<u64>>,
+    }
+    fn place(w: &mut Walk, i: usize, j: usize, need: usize) {
+        let (m, n) = (w.rows.len(), w.left.len());
+        if need == 0 {
+            if w.left.iter().any(|&c| c > m - i - 1) {
+                return;
+            }
+            if i + 1 == m {
+                w.out.push(w.cur.as_words().to_vec());
+            } else {
+                place(w, i + 1, 0, w.rows[i + 1]);
+            }
+            return;
+        }
+        if n - j < need {
+            return;
+        }
+        if w.left[j] > 0 {
+            w.left[j] -= 1;
+            w.cur.set(i, j, true);
+            place(w, i, j + 1, need - 1);
+            w.cur.set(i, j, false);
+            w.left[j] += 1;
+        }
+        place(w, i, j + 1, need);
+    }
+    let mut w = Walk {
+        rows,
+        left: cols.to_vec(),
+        cur: BitMatrix::zeros(rows.len(), cols.len()),
+        out: Vec::new(),
+    };
+    place(&mut w, 0, 0, rows[0]);
+    w.out
+}
+
+/// The backtracking list against the brute-force one on the margins used
+/// above, and against binomial coefficients on two rows of column degree 1.
+#[test]
+fn enumeration_of_margins_matches_brute_force() {
+    for (rows, cols) in [
+        (vec![3, 2, 2, 1], vec![2, 2, 2, 1, 1]),
+        (vec![2, 2, 1, 1], vec![2, 2, 1, 1]),
+        (vec![1; 4], vec![1; 4]),
+    ] {
+        let brute = all_with_margins(&rows, &cols).len();
+        assert_eq!(enumerate_margins(&rows, &cols).len(), brute);
+    }
+    assert_eq!(enumerate_margins(&[3, 6], &[1; 9]).len(), 84); // C(9, 3)
+    assert_eq!(enumerate_margins(&[2, 18], &[1; 20]).len(), 190); // C(20, 2)
+}
+
+/// Draws `per_state * states` fixed-both matrices (each its own chain from
+/// `start`, default burn-in) and checks that only listed matrices appear,
+/// all equally often (Pearson chi-square, p > 0.001: a uniform chain fails
+/// with probability 0.001 for a given seed). Returns the number of states.
+fn check_uniform_enumerated(start: &BitMatrix, per_state: usize, seed: u64) -> usize {
+    let states = enumerate_margins(&start.row_degrees(), &start.col_degrees());
+    let net = Network::from_array(ndarray::Array2::from_shape_fn(
+        (start.nrows(), start.ncols()),
+        |(i, j)| f64::from(u8::from(start.get(i, j))),
+    ))
+    .unwrap();
+    let s = NullSampler::new(&net, NullModel::FixedBoth, &NullOptions::default()).unwrap();
+    let mut counts: HashMap<Vec<u64>, usize> = states.iter().map(|x| (x.clone(), 0)).collect();
+    for k in 0..per_state * states.len() {
+        let NullDraw::Binary(d) = s.draw(seed, k as u64) else {
+            unreachable!()
+        };
+        *counts
+            .get_mut(d.as_words())
+            .expect("a matrix with other margins") += 1;
+    }
+    let c: Vec<usize> = states.iter().map(|x| counts[x]).collect();
+    let p = chi_square(&c, &vec![1.0 / states.len() as f64; states.len()]);
+    assert!(p > 0.001, "{} states, counts {c:?}, p = {p}", states.len());
+    states.len()
+}
+
+/// Two rows sharing no column (column degrees 1): the matrices are the
+/// `C(n, d)` choices of the first row's columns, and every trade pools all
+/// `n` columns. The cases cover each way a subset of the pool is drawn:
+/// Floyd's algorithm (one side under 1/8 of the pool; 70 and 130 columns
+/// take the two-word register and the word array), and coins of
+/// probability 1/8, 2/8, 3/8 and 4/8 (and their complements) corrected to
+/// the exact count.
+#[test]
+fn fixed_both_uniform_on_large_pools() {
+    let two_rows = |d: usize, n: usize| BitMatrix::from_fn(2, n, |i, j| (i == 0) == (j < d));
+    for (d, n, per_state, states) in [
+        (2, 20, 30, 190),  // Floyd, 2 of 20
+        (1, 70, 40, 70),   // Floyd, two-word register
+        (1, 130, 30, 130), // Floyd, word array
+        (2, 16, 40, 120),  // coins 1/8 and 7/8
+        (2, 9, 60, 36),    // coins 2/8 and 6/8
+        (3, 9, 40, 84),    // coins 3/8 and 5/8
+        (4, 9, 30, 126),   // coins 4/8
+    ] {
+        assert_eq!(
+            check_uniform_enumerated(&two_rows(d, n), per_state, 30 + n as u64),
+            states
+        );
+    }
+}
+
+/// Uneven margins on 3 x 8 (rows 5, 3, 2; columns 2, 2, 1, 1, 1, 1, 1, 1)
+/// with pools of 5 and 6 columns: 296 admissible matrices (the backtracking
+/// list; 296 also by a separate enumeration in Python), all equally often.
+#[test]
+fn fixed_both_uniform_on_uneven_larger_margins() {
+    let ones: [&[usize]; 3] = [&[0, 1, 2, 3, 4], &[0, 5, 6], &[1, 7]];
+    let start = BitMatrix::from_fn(3, 8, |i, j| ones[i].contains(&j));
+    assert_eq!(start.col_degrees(), vec![2, 2, 1, 1, 1, 1, 1, 1]);
+    assert_eq!(check_uniform_enumerated(&start, 30, 41), 296);
+}

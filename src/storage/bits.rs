@@ -84,7 +84,7 @@ impl BitMatrix {
         &mut self.bits[i * self.words..(i + 1) * self.words]
     }
     /// The words of two distinct rows `a` and `b`, both mutably.
-    #[inline]
+    #[inline(always)]
     pub(crate) fn two_rows_mut(&mut self, a: usize, b: usize) -> (&mut [u64], &mut [u64]) {
         assert!(a != b && a < self.nrows && b < self.nrows);
         let w = self.words;
