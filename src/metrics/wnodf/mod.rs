@@ -1,6 +1,8 @@
 //! WNODF: weighted NODF (Almeida-Neto & Ulrich 2011, Environ. Model. Softw.
 //! 26:173-178).
 
+use std::borrow::Cow;
+
 use crate::error::Result;
 use crate::metrics::registry::IndexOptions;
 use crate::metrics::{Order, Parts};
@@ -47,7 +49,13 @@ mod ranks;
 pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
     let rows = view.compressed_rows()?;
     if order == Order::Given || view.layout() != Layout::Sparse {
-        if let Some(parts) = ranks::wnodf_ranked(&rows, order) {
+        // A view that lends its compressed rows keeps them (a `Network`):
+        // its compressed columns are kept too, saving the transpose.
+        let cols = match rows {
+            Cow::Borrowed(_) => Some(view.compressed_cols()?),
+            Cow::Owned(_) => None,
+        };
+        if let Some(parts) = ranks::wnodf_ranked(&rows, cols.as_deref(), order) {
             return parts;
         }
     }
@@ -60,7 +68,7 @@ pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
 #[doc(hidden)]
 pub fn wnodf_ranks<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
     let rows = view.compressed_rows()?;
-    ranks::wnodf_ranked(&rows, order).unwrap_or_else(|| csr::wnodf_csr(&rows, order))
+    ranks::wnodf_ranked(&rows, None, order).unwrap_or_else(|| csr::wnodf_csr(&rows, order))
 }
 
 /// WNODF by the list kernels alone (a dominance count per list in the
