@@ -109,18 +109,7 @@ impl Ranker {
     }
 
     fn new(vals: &[f64]) -> Ranker {
-        // One pass without early exit (vectorised): whole numbers 1..2^16?
-        let (mut whole, mut top) = (true, 0u32);
-        for c in vals.chunks(256) {
-            for &x in c {
-                let u = x as u32; // saturating; NaN cannot occur
-                whole &= (f64::from(u) == x) & (u >= 1) & (u <= u32::from(u16::MAX));
-                top = top.max(u);
-            }
-            if !whole {
-                break;
-            }
-        }
+        let (whole, top) = whole_top(vals);
         if whole {
             let mut table = vec![0u32; top as usize + 1];
             for &x in vals {
@@ -154,12 +143,74 @@ impl Ranker {
     /// The ranks of `vals`, each one of the weights the ranker was built on.
     fn ranks(&self, vals: &[f64]) -> Vec<u32> {
         match &self.table {
-            Some(t) => vals.iter().map(|&x| t[x as usize]).collect(),
+            Some(t) => {
+                let mut out = vec![0u32; vals.len()];
+                look_up(t, vals, &mut out);
+                out
+            }
             None => vals
                 .par_iter()
                 .map(|&x| self.keys.partition_point(|&k| k < Self::key(x)) as u32 + 1)
                 .collect(),
         }
+    }
+}
+
+/// Dispatch of a kernel body to its AVX-512 or AVX2 build when the CPU has
+/// them (checked at run time), else the portable build.
+macro_rules! dispatch {
+    ($name:ident, $body:ident, ($($a:ident: $t:ty),*) -> $r:ty) => {
+        fn $name($($a: $t),*) -> $r {
+            #[cfg(target_arch = "x86_64")]
+            {
+                #[target_feature(enable = "avx512f,avx512bw")]
+                fn avx512($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                #[target_feature(enable = "avx2")]
+                fn avx2($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                if std::arch::is_x86_feature_detected!("avx512bw") {
+                    // SAFETY: the CPU supports avx512f and avx512bw (checked).
+                    return unsafe { avx512($($a),*) };
+                }
+                if std::arch::is_x86_feature_detected!("avx2") {
+                    // SAFETY: the CPU supports avx2 (checked).
+                    return unsafe { avx2($($a),*) };
+                }
+            }
+            $body($($a),*)
+        }
+    };
+}
+
+dispatch!(whole_top, whole_top_body, (vals: &[f64]) -> (bool, u32));
+dispatch!(look_up, look_up_body, (table: &[u32], vals: &[f64], out: &mut [u32]) -> ());
+
+/// Whether every weight is a whole number in `1..2^16`, and the largest
+/// (as `u32`, saturating): one pass in blocks, without a branch per weight.
+#[inline(always)]
+fn whole_top_body(vals: &[f64]) -> (bool, u32) {
+    let (mut whole, mut top) = (true, 0u32);
+    for c in vals.chunks(256) {
+        for &x in c {
+            let u = x as u32; // saturating; NaN cannot occur
+            whole &= (f64::from(u) == x) & (u >= 1) & (u <= u32::from(u16::MAX));
+            top = top.max(u);
+        }
+        if !whole {
+            break;
+        }
+    }
+    (whole, top)
+}
+
+/// `out[k] = table[vals[k]]` for whole-number weights.
+#[inline(always)]
+fn look_up_body(table: &[u32], vals: &[f64], out: &mut [u32]) {
+    for (o, &x) in out.iter_mut().zip(vals) {
+        *o = table[x as usize];
     }
 }
 
@@ -582,6 +633,35 @@ mod tests {
             let cranks = cranks.unwrap();
             let narrow = given_lanes::<u16>(&cptr, &cidx, &cranks, &rd);
             assert_eq!(given_lanes::<u32>(&cptr, &cidx, &cranks, &rd), narrow);
+        }
+    }
+
+    /// The portable builds equal the dispatched (vector) ones.
+    #[test]
+    fn portable_bodies_equal_dispatched() {
+        let mut r = lcg(9);
+        let vals: Vec<f64> = (0..1000).map(|_| (1 + r() % 300) as f64).collect();
+        assert_eq!(whole_top_body(&vals), whole_top(&vals));
+        let mut frac = vals.clone();
+        frac[700] = 2.5;
+        assert!(!whole_top_body(&frac).0);
+        assert!(!whole_top(&frac).0);
+        let table: Vec<u32> = (0..301).map(|k| k * 7).collect();
+        let (mut a, mut b) = (vec![0u32; 1000], vec![0u32; 1000]);
+        look_up_body(&table, &vals, &mut a);
+        look_up(&table, &vals, &mut b);
+        assert_eq!(a, b);
+        let d: Vec<u16> = (0..700).map(|_| (r() % 9) as u16).collect();
+        let w: Vec<u16> = (0..700).map(|_| (r() % 5) as u16).collect();
+        let members: Vec<u32> = (0..700).collect();
+        let (mut a, mut b) = (vec![0u64; 700], vec![0u64; 700]);
+        given_pairs_body(&d, &w, &members, &mut a);
+        given_pairs(&d, &w, &members, &mut b);
+        assert_eq!(a, b);
+        // The definition, pair by pair (docs/methods.md §2, given order).
+        for l in 0..700 {
+            let want = (0..l).filter(|&u| d[u] > d[l] && w[u] > w[l]).count();
+            assert_eq!(a[l], want as u64);
         }
     }
 
