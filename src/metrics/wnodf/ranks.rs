@@ -34,9 +34,11 @@ use crate::storage::Csr;
 /// Largest band of per-rank counters per list (ranks `1..BAND_MAX`).
 const BAND_MAX: usize = 64;
 
-/// WNODF from compressed rows by global ranks; `None` when the sorted
-/// order would need a Fenwick tree per list larger than the network allows
-/// (many distinct weights on a wide side), left to the list kernels.
+/// WNODF from compressed rows (and the same links by columns, when the
+/// view keeps them) by global ranks; `None` when the sorted order would
+/// need more counters per list than the network's size allows (many
+/// distinct weights on a wide side, or very many short lists), left to the
+/// list kernels.
 pub(crate) fn wnodf_ranked(
     rows: &Csr<f64>,
     cols: Option<&Csr<f64>>,
@@ -45,11 +47,19 @@ pub(crate) fn wnodf_ranked(
     let (m, n) = (rows.nrows(), rows.ncols());
     let ranker = Ranker::new(rows.values());
     let distinct = ranker.distinct;
-    if order == Order::Sorted && distinct >= BAND_MAX {
-        // Fenwick trees of `distinct + 1` counters for every list of either
-        // side: refuse more than a few times the network's own size.
+    if order == Order::Sorted {
+        // A band (16, 32 or 64) or a Fenwick tree (`distinct + 1`) of
+        // counters for every list of either side: refuse more than a few
+        // counters per link (a dense table of very many short lists, or
+        // many distinct weights on a wide side).
+        let width = match distinct + 1 {
+            w if w <= 16 => 16,
+            w if w <= 32 => 32,
+            w if w <= BAND_MAX => BAND_MAX,
+            w => w,
+        };
         let budget = 4 * (rows.nnz() + m + n) + 4096;
-        if (m.max(n)).saturating_mul(distinct + 1) > budget {
+        if (m.max(n)).saturating_mul(width) > budget {
             return None;
         }
     }
@@ -583,8 +593,13 @@ mod tests {
                         let kept = wnodf_ranked(&csr, Some(&cols), order).unwrap();
                         assert_eq!(kept.unwrap(), want, "seed {seed} {order} kept columns");
                     }
-                    // Left to the list kernels: only Fenwick trees above budget.
-                    None => assert!(order == Order::Sorted && global_ranks(csr.values()).1 >= 64),
+                    // Left to the list kernels: only counters above budget.
+                    None => {
+                        let k = global_ranks(csr.values()).1 + 1;
+                        let width = [16, 32, 64].into_iter().find(|&w| k <= w).unwrap_or(k);
+                        let budget = 4 * (csr.nnz() + m + n) + 4096;
+                        assert!(order == Order::Sorted && m.max(n) * width > budget);
+                    }
                 }
             }
             // Forced variants on the row side.
@@ -663,6 +678,23 @@ mod tests {
             let want = (0..l).filter(|&u| d[u] > d[l] && w[u] > w[l]).count();
             assert_eq!(a[l], want as u64);
         }
+    }
+
+    /// A 2 x 5,000 table (many lists of two members) in the sorted order
+    /// would need more band counters than it has links: declined, so the
+    /// list kernels compute it; the given order is taken.
+    #[test]
+    fn counters_bounded_by_links() {
+        let triplets: Vec<(u32, u32, f64)> = (0..2u32)
+            .flat_map(|i| (0..5000u32).map(move |j| (i, j, f64::from(1 + (i + j) % 3))))
+            .collect();
+        let csr = Csr::from_triplets(2, 5000, triplets);
+        assert!(wnodf_ranked(&csr, None, Order::Sorted).is_none());
+        let want = wnodf_csr_with(&csr, Order::Given, PAIR_LIMIT).unwrap();
+        assert_eq!(
+            wnodf_ranked(&csr, None, Order::Given).unwrap().unwrap(),
+            want
+        );
     }
 
     /// Ranks keep the order of the weights, whole or not.
