@@ -1,5 +1,4 @@
-//! WNODF on global weight ranks (the path taken for dense storage and for
-//! the given order).
+//! WNODF on global weight ranks (the path taken for dense storage).
 //!
 //! Every weight is replaced once by its rank among the network's distinct
 //! weights (1 = smallest). Ranks keep the order of the weights, so every
