@@ -451,3 +451,30 @@ fn wnodf_rank_kernels_equal_definition_and_lists() {
         }
     }
 }
+
+/// A dense network with more than 2^16 links, where the sorted-order rank
+/// kernel splits the lists between several tasks: the definition, the list
+/// kernels and the rank kernels agree on 1, 2 and 3 threads.
+#[test]
+fn wnodf_rank_kernels_split_between_tasks() {
+    use nidus::metrics::wnodf::wnodf_lists;
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(99);
+    let k = Array2::from_shape_fn((300, 420), |_| {
+        if rng.random::<f64>() < 0.6 {
+            rng.random_range(1..=12u32)
+        } else {
+            0
+        }
+    });
+    let net = Network::from_array(k.clone()).unwrap();
+    assert!(!net.is_sparse() && net.links() > 1 << 16);
+    for order in [Order::Sorted, Order::Given] {
+        let want = wnodf_ref(&k, order);
+        for threads in [1, 2, 3] {
+            pool(threads).install(|| {
+                assert_eq!(wnodf(&net, order).ok(), want, "{order} {threads}");
+                assert_eq!(wnodf_lists(&net, order).ok(), want, "{order} {threads}");
+            });
+        }
+    }
+}

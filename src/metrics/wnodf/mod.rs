@@ -1,6 +1,8 @@
 //! WNODF: weighted NODF (Almeida-Neto & Ulrich 2011, Environ. Model. Softw.
 //! 26:173-178).
 
+use std::borrow::Cow;
+
 use crate::error::Result;
 use crate::metrics::registry::IndexOptions;
 use crate::metrics::{Order, Parts};
@@ -19,14 +21,17 @@ mod ranks;
 ///
 /// Computed on the compressed rows of any [`NetView`], dense or sparse.
 /// Weights are compared as `f64` (exact for integers below 2^53). Dense
-/// tables, and the given order of any table, are computed on the ranks of
+/// tables (and bit tables) are computed on the ranks of
 /// the weights among the network's distinct weights (order-preserving, so
 /// the same counts): in the sorted order a count per list and rank as the
-/// rows and columns are visited by decreasing degree, `O(L W)` for `W` =
-/// distinct weights up to 64, `O(L log W)` beyond; in the given order the
+/// rows and columns are visited by decreasing degree, `O(L W)` with a band
+/// of `W <= 64` counters per list below 64 distinct weights, `O(L log R)`
+/// for `R` distinct weights beyond (a table whose counters would outnumber
+/// its links a few times over takes the sparse route); in the given order the
 /// pairs sharing each column in 16-bit vector lanes, `O(sum of squared
-/// degrees)`. Sparse tables in the sorted order use a dominance count per
-/// column, `O(L log(max(m, n)))`. Memory `O(m + n + L)` beyond the
+/// degrees)`. Sparse tables use a dominance count per column in the
+/// sorted order, `O(L log(max(m, n)))`, and the pairs over the weights in
+/// the given order. Memory `O(m + n + L)` beyond the
 /// network, plus one `O(m + n)` counter per parallel task and, for dense
 /// tables in the sorted order, `O((m + n) W)`. A dense table is first
 /// compressed (`O(m n)`; a [`crate::Network`] keeps its compressed rows
@@ -46,8 +51,14 @@ mod ranks;
 /// ```
 pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
     let rows = view.compressed_rows()?;
-    if order == Order::Given || view.layout() != Layout::Sparse {
-        if let Some(parts) = ranks::wnodf_ranked(&rows, order) {
+    if view.layout() != Layout::Sparse {
+        // A view that lends its compressed rows keeps them (a `Network`):
+        // its compressed columns are kept too, saving the transpose.
+        let cols = match rows {
+            Cow::Borrowed(_) => Some(view.compressed_cols()?),
+            Cow::Owned(_) => None,
+        };
+        if let Some(parts) = ranks::wnodf_ranked(&rows, cols.as_deref(), order) {
             return parts;
         }
     }
@@ -60,7 +71,7 @@ pub fn wnodf<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
 #[doc(hidden)]
 pub fn wnodf_ranks<V: NetView + ?Sized>(view: &V, order: Order) -> Result<Parts> {
     let rows = view.compressed_rows()?;
-    ranks::wnodf_ranked(&rows, order).unwrap_or_else(|| csr::wnodf_csr(&rows, order))
+    ranks::wnodf_ranked(&rows, None, order).unwrap_or_else(|| csr::wnodf_csr(&rows, order))
 }
 
 /// WNODF by the list kernels alone (a dominance count per list in the

@@ -1,5 +1,4 @@
-//! WNODF on global weight ranks (the path taken for dense storage and for
-//! the given order).
+//! WNODF on global weight ranks (the path taken for dense storage).
 //!
 //! Every weight is replaced once by its rank among the network's distinct
 //! weights (1 = smallest). Ranks keep the order of the weights, so every
@@ -34,32 +33,64 @@ use crate::storage::Csr;
 /// Largest band of per-rank counters per list (ranks `1..BAND_MAX`).
 const BAND_MAX: usize = 64;
 
-/// WNODF from compressed rows by global ranks; `None` when the sorted
-/// order would need a Fenwick tree per list larger than the network allows
-/// (many distinct weights on a wide side), left to the list kernels.
-pub(crate) fn wnodf_ranked(rows: &Csr<f64>, order: Order) -> Option<Result<Parts>> {
+/// WNODF from compressed rows (and the same links by columns, when the
+/// view keeps them) by global ranks; `None` when the sorted order would
+/// need more counters per list than the network's size allows (many
+/// distinct weights on a wide side, or very many short lists), left to the
+/// list kernels.
+pub(crate) fn wnodf_ranked(
+    rows: &Csr<f64>,
+    cols: Option<&Csr<f64>>,
+    order: Order,
+) -> Option<Result<Parts>> {
     let (m, n) = (rows.nrows(), rows.ncols());
-    let (ranks, distinct) = global_ranks(rows.values());
-    if order == Order::Sorted && distinct >= BAND_MAX {
-        // Fenwick trees of `distinct + 1` counters for every list of either
-        // side: refuse more than a few times the network's own size.
+    let ranker = Ranker::new(rows.values());
+    let distinct = ranker.distinct;
+    if order == Order::Sorted {
+        // A band (16, 32 or 64) or a Fenwick tree (`distinct + 1`) of
+        // counters for every list of either side: refuse more than a few
+        // counters per link (a dense table of very many short lists, or
+        // many distinct weights on a wide side).
+        let width = match distinct + 1 {
+            w if w <= 16 => 16,
+            w if w <= 32 => 32,
+            w if w <= BAND_MAX => BAND_MAX,
+            w => w,
+        };
         let budget = 4 * (rows.nnz() + m + n) + 4096;
-        if (m.max(n)).saturating_mul(distinct + 1) > budget {
+        if (m.max(n)).saturating_mul(width) > budget {
             return None;
         }
     }
-    let (cptr, cidx, cranks) =
-        transpose_lists(n, rows.indptr(), rows.indices(), Some(&ranks), None);
-    let cranks = cranks.unwrap_or_default();
+    // The columns as kept by the view (ranked by the same table), else one
+    // transpose of the rows carrying their ranks.
+    let (ranks, transposed) = match cols {
+        Some(c) => rayon::join(
+            || ranker.ranks(rows.values()),
+            || {
+                let r = ranker.ranks(c.values());
+                (Vec::new(), Vec::new(), r)
+            },
+        ),
+        None => {
+            let ranks = ranker.ranks(rows.values());
+            let (p, i, r) = transpose_lists(n, rows.indptr(), rows.indices(), Some(&ranks), None);
+            (ranks, (p, i, r.unwrap_or_default()))
+        }
+    };
+    let (cptr, cidx, cranks) = match cols {
+        Some(c) => (c.indptr(), c.indices(), &transposed.2[..]),
+        None => (&transposed.0[..], &transposed.1[..], &transposed.2[..]),
+    };
     let rd = list_degrees(rows.indptr());
-    let cd = list_degrees(&cptr);
+    let cd = list_degrees(cptr);
     let (rk, ck) = rayon::join(
         || match order {
             Order::Sorted => sorted_counts(rows.indptr(), rows.indices(), &ranks, n, &rd, distinct),
-            Order::Given => given_counts(&cptr, &cidx, &cranks, &rd, distinct),
+            Order::Given => given_counts(cptr, cidx, cranks, &rd, distinct),
         },
         || match order {
-            Order::Sorted => sorted_counts(&cptr, &cidx, &cranks, m, &cd, distinct),
+            Order::Sorted => sorted_counts(cptr, cidx, cranks, m, &cd, distinct),
             Order::Given => given_counts(rows.indptr(), rows.indices(), &ranks, &cd, distinct),
         },
     );
@@ -72,12 +103,104 @@ pub(crate) fn wnodf_ranked(rows: &Csr<f64>, order: Order) -> Option<Result<Parts
     ))
 }
 
-/// The rank of every weight among the distinct weights (1 = smallest) and
-/// the number of distinct weights. Whole numbers below 2^16 by a table;
-/// anything else by sorting the distinct values (non-negative `f64` order
-/// as their bit patterns, `-0.0` read as `0.0`).
-fn global_ranks(vals: &[f64]) -> (Vec<u32>, usize) {
-    // One pass without early exit (vectorised): whole numbers 1..2^16?
+/// Ranks among a set of distinct weights: whole numbers 1..2^16 by a table,
+/// anything else by binary search in the sorted distinct values
+/// (non-negative `f64` order as their bit patterns, `-0.0` read as `0.0`).
+struct Ranker {
+    table: Option<Vec<u32>>,
+    keys: Vec<u64>,
+    distinct: usize,
+}
+
+impl Ranker {
+    fn key(x: f64) -> u64 {
+        (x + 0.0).to_bits()
+    }
+
+    fn new(vals: &[f64]) -> Ranker {
+        let (whole, top) = whole_top(vals);
+        if whole {
+            let mut table = vec![0u32; top as usize + 1];
+            for &x in vals {
+                table[x as usize] = 1;
+            }
+            let mut r = 0u32;
+            for t in &mut table {
+                if *t != 0 {
+                    r += 1;
+                    *t = r;
+                }
+            }
+            Ranker {
+                table: Some(table),
+                keys: Vec::new(),
+                distinct: r as usize,
+            }
+        } else {
+            let mut keys: Vec<u64> = vals.iter().map(|&x| Self::key(x)).collect();
+            keys.sort_unstable();
+            keys.dedup();
+            let distinct = keys.len();
+            Ranker {
+                table: None,
+                keys,
+                distinct,
+            }
+        }
+    }
+
+    /// The ranks of `vals`, each one of the weights the ranker was built on.
+    fn ranks(&self, vals: &[f64]) -> Vec<u32> {
+        match &self.table {
+            Some(t) => {
+                let mut out = vec![0u32; vals.len()];
+                look_up(t, vals, &mut out);
+                out
+            }
+            None => vals
+                .par_iter()
+                .map(|&x| self.keys.partition_point(|&k| k < Self::key(x)) as u32 + 1)
+                .collect(),
+        }
+    }
+}
+
+/// Dispatch of a kernel body to its AVX-512 or AVX2 build when the CPU has
+/// them (checked at run time), else the portable build.
+macro_rules! dispatch {
+    ($name:ident, $body:ident, ($($a:ident: $t:ty),*) -> $r:ty) => {
+        fn $name($($a: $t),*) -> $r {
+            #[cfg(target_arch = "x86_64")]
+            {
+                #[target_feature(enable = "avx512f,avx512bw")]
+                fn avx512($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                #[target_feature(enable = "avx2")]
+                fn avx2($($a: $t),*) -> $r {
+                    $body($($a),*)
+                }
+                if std::arch::is_x86_feature_detected!("avx512bw") {
+                    // SAFETY: the CPU supports avx512f and avx512bw (checked).
+                    return unsafe { avx512($($a),*) };
+                }
+                if std::arch::is_x86_feature_detected!("avx2") {
+                    // SAFETY: the CPU supports avx2 (checked).
+                    return unsafe { avx2($($a),*) };
+                }
+            }
+            $body($($a),*)
+        }
+    };
+}
+
+dispatch!(whole_top, whole_top_body, (vals: &[f64]) -> (bool, u32));
+dispatch!(look_up, look_up_body, (table: &[u32], vals: &[f64], out: &mut [u32]) -> ());
+
+/// Whether every weight is a whole number in `1..2^16`, and the largest
+/// (as `u32`, saturating): one pass in blocks, without a branch per weight.
+#[inline(always)]
+fn whole_top_body(vals: &[f64]) -> (bool, u32) {
     let (mut whole, mut top) = (true, 0u32);
     for c in vals.chunks(256) {
         for &x in c {
@@ -89,33 +212,14 @@ fn global_ranks(vals: &[f64]) -> (Vec<u32>, usize) {
             break;
         }
     }
-    if whole {
-        let top = top as usize;
-        let mut table = vec![0u32; top + 1];
-        for &x in vals {
-            table[x as usize] = 1;
-        }
-        let mut r = 0u32;
-        for t in &mut table {
-            if *t != 0 {
-                r += 1;
-                *t = r;
-            }
-        }
-        (
-            vals.iter().map(|&x| table[x as usize]).collect(),
-            r as usize,
-        )
-    } else {
-        let key = |x: f64| (x + 0.0).to_bits();
-        let mut keys: Vec<u64> = vals.iter().map(|&x| key(x)).collect();
-        keys.sort_unstable();
-        keys.dedup();
-        let ranks = vals
-            .par_iter()
-            .map(|&x| keys.partition_point(|&k| k < key(x)) as u32 + 1)
-            .collect();
-        (ranks, keys.len())
+    (whole, top)
+}
+
+/// `out[k] = table[vals[k]]` for whole-number weights.
+#[inline(always)]
+fn look_up_body(table: &[u32], vals: &[f64], out: &mut [u32]) {
+    for (o, &x) in out.iter_mut().zip(vals) {
+        *o = table[x as usize];
     }
 }
 
@@ -162,6 +266,8 @@ fn sorted_counts(
         }
     }
     cuts.push(nlists as u32);
+    // 16-bit counters when no list is longer than they count.
+    let narrow = per_listc.iter().all(|&c| c <= u16::MAX as usize);
     let job = Job {
         ptr,
         idx,
@@ -177,9 +283,12 @@ fn sorted_counts(
         .map(|c| {
             let (lo, hi) = (c[0], c[1]);
             match distinct + 1 {
-                w if w <= 16 => job.bands::<16>(lo, hi),
-                w if w <= 32 => job.bands::<32>(lo, hi),
-                w if w <= BAND_MAX => job.bands::<BAND_MAX>(lo, hi),
+                w if w <= 16 && narrow => job.bands::<u16, 16>(lo, hi),
+                w if w <= 32 && narrow => job.bands::<u16, 32>(lo, hi),
+                w if w <= BAND_MAX && narrow => job.bands::<u16, BAND_MAX>(lo, hi),
+                w if w <= 16 => job.bands::<u32, 16>(lo, hi),
+                w if w <= 32 => job.bands::<u32, 32>(lo, hi),
+                w if w <= BAND_MAX => job.bands::<u32, BAND_MAX>(lo, hi),
                 w => job.fenwick(lo, hi, w),
             }
         })
@@ -209,45 +318,45 @@ impl Job<'_> {
         a + s.partition_point(|&j| j < lo)..a + s.partition_point(|&j| j < hi)
     }
 
-    /// Per-rank counters: `band[j][t]` = members of list `j` visited so far
+    /// Per-rank counters (`C` holds the longest list's length): `band[j][t]` = members of list `j` visited so far
     /// with a rank above `t`.
-    fn bands<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+    fn bands<C: Lane, const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
         #[cfg(target_arch = "x86_64")]
         {
             if std::arch::is_x86_feature_detected!("avx512bw") {
                 // SAFETY: the CPU supports avx512f and avx512bw (checked).
-                return unsafe { self.bands_avx512::<W>(lo, hi) };
+                return unsafe { self.bands_avx512::<C, W>(lo, hi) };
             }
             if std::arch::is_x86_feature_detected!("avx2") {
                 // SAFETY: the CPU supports avx2 (checked).
-                return unsafe { self.bands_avx2::<W>(lo, hi) };
+                return unsafe { self.bands_avx2::<C, W>(lo, hi) };
             }
         }
-        self.bands_body::<W>(lo, hi)
+        self.bands_body::<C, W>(lo, hi)
     }
 
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx512f,avx512bw")]
-    fn bands_avx512<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
-        self.bands_body::<W>(lo, hi)
+    fn bands_avx512<C: Lane, const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        self.bands_body::<C, W>(lo, hi)
     }
 
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "avx2")]
-    fn bands_avx2<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
-        self.bands_body::<W>(lo, hi)
+    fn bands_avx2<C: Lane, const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+        self.bands_body::<C, W>(lo, hi)
     }
 
     #[inline(always)]
-    fn bands_body<const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
+    fn bands_body<C: Lane, const W: usize>(&self, lo: u32, hi: u32) -> Vec<u64> {
         let mut hits = vec![0u64; self.ptr.len() - 1];
-        let mut band = vec![[0u32; W]; (hi - lo) as usize];
+        let mut band = vec![[C::default(); W]; (hi - lo) as usize];
         let last = self.groups.len();
         for (g, &(p, q)) in self.groups.iter().enumerate() {
             for &i in &self.ord[p..q] {
                 let mut c = 0u64;
                 for e in self.span(i, lo, hi) {
-                    c += u64::from(band[(self.idx[e] - lo) as usize][self.rank[e] as usize]);
+                    c += band[(self.idx[e] - lo) as usize][self.rank[e] as usize].wide();
                 }
                 hits[i] = c;
             }
@@ -258,7 +367,7 @@ impl Job<'_> {
                 for e in self.span(i, lo, hi) {
                     let (b, r) = (&mut band[(self.idx[e] - lo) as usize], self.rank[e]);
                     for (t, x) in b.iter_mut().enumerate() {
-                        *x += u32::from((t as u32) < r);
+                        *x = x.wrapping_add(C::one_if((t as u32) < r));
                     }
                 }
             }
@@ -428,6 +537,13 @@ mod tests {
     use crate::metrics::wnodf::csr::wnodf_csr_with;
     use crate::storage::lists::PAIR_LIMIT;
 
+    /// The rank of every weight among the distinct weights (1 = smallest)
+    /// and the number of distinct weights.
+    fn global_ranks(vals: &[f64]) -> (Vec<u32>, usize) {
+        let r = Ranker::new(vals);
+        (r.ranks(vals), r.distinct)
+    }
+
     fn lcg(seed: u64) -> impl FnMut() -> u64 {
         let mut x = seed.wrapping_mul(0x9E37_79B9_7F4A_7C15) | 1;
         move || {
@@ -469,10 +585,20 @@ mod tests {
             let csr = Csr::from_triplets(m, n, triplets);
             for order in [Order::Sorted, Order::Given] {
                 let want = wnodf_csr_with(&csr, order, PAIR_LIMIT).unwrap();
-                match wnodf_ranked(&csr, order) {
-                    Some(got) => assert_eq!(got.unwrap(), want, "seed {seed} {order}"),
-                    // Left to the list kernels: only Fenwick trees above budget.
-                    None => assert!(order == Order::Sorted && global_ranks(csr.values()).1 >= 64),
+                let cols = csr.transpose();
+                match wnodf_ranked(&csr, None, order) {
+                    Some(got) => {
+                        assert_eq!(got.unwrap(), want, "seed {seed} {order}");
+                        let kept = wnodf_ranked(&csr, Some(&cols), order).unwrap();
+                        assert_eq!(kept.unwrap(), want, "seed {seed} {order} kept columns");
+                    }
+                    // Left to the list kernels: only counters above budget.
+                    None => {
+                        let k = global_ranks(csr.values()).1 + 1;
+                        let width = [16, 32, 64].into_iter().find(|&w| k <= w).unwrap_or(k);
+                        let budget = 4 * (csr.nnz() + m + n) + 4096;
+                        assert!(order == Order::Sorted && m.max(n) * width > budget);
+                    }
                 }
             }
             // Forced variants on the row side.
@@ -511,8 +637,9 @@ mod tests {
                 assert_eq!(split(&|a, b| job.fenwick(a, b, distinct + 1)), want);
                 assert_eq!(split(&|a, b| job.fenwick(a, b, distinct + 7)), want);
                 if distinct < 64 {
-                    assert_eq!(split(&|a, b| job.bands::<64>(a, b)), want);
-                    assert_eq!(split(&|a, b| job.bands_body::<64>(a, b)), want);
+                    assert_eq!(split(&|a, b| job.bands::<u16, 64>(a, b)), want);
+                    assert_eq!(split(&|a, b| job.bands::<u32, 64>(a, b)), want);
+                    assert_eq!(split(&|a, b| job.bands_body::<u16, 64>(a, b)), want);
                 }
             }
             let (cptr, cidx, cranks) =
@@ -521,6 +648,52 @@ mod tests {
             let narrow = given_lanes::<u16>(&cptr, &cidx, &cranks, &rd);
             assert_eq!(given_lanes::<u32>(&cptr, &cidx, &cranks, &rd), narrow);
         }
+    }
+
+    /// The portable builds equal the dispatched (vector) ones.
+    #[test]
+    fn portable_bodies_equal_dispatched() {
+        let mut r = lcg(9);
+        let vals: Vec<f64> = (0..1000).map(|_| (1 + r() % 300) as f64).collect();
+        assert_eq!(whole_top_body(&vals), whole_top(&vals));
+        let mut frac = vals.clone();
+        frac[700] = 2.5;
+        assert!(!whole_top_body(&frac).0);
+        assert!(!whole_top(&frac).0);
+        let table: Vec<u32> = (0..301).map(|k| k * 7).collect();
+        let (mut a, mut b) = (vec![0u32; 1000], vec![0u32; 1000]);
+        look_up_body(&table, &vals, &mut a);
+        look_up(&table, &vals, &mut b);
+        assert_eq!(a, b);
+        let d: Vec<u16> = (0..700).map(|_| (r() % 9) as u16).collect();
+        let w: Vec<u16> = (0..700).map(|_| (r() % 5) as u16).collect();
+        let members: Vec<u32> = (0..700).collect();
+        let (mut a, mut b) = (vec![0u64; 700], vec![0u64; 700]);
+        given_pairs_body(&d, &w, &members, &mut a);
+        given_pairs(&d, &w, &members, &mut b);
+        assert_eq!(a, b);
+        // The definition, pair by pair (docs/methods.md §2, given order).
+        for l in 0..700 {
+            let want = (0..l).filter(|&u| d[u] > d[l] && w[u] > w[l]).count();
+            assert_eq!(a[l], want as u64);
+        }
+    }
+
+    /// A 2 x 5,000 table (many lists of two members) in the sorted order
+    /// would need more band counters than it has links: declined, so the
+    /// list kernels compute it; the given order is taken.
+    #[test]
+    fn counters_bounded_by_links() {
+        let triplets: Vec<(u32, u32, f64)> = (0..2u32)
+            .flat_map(|i| (0..5000u32).map(move |j| (i, j, f64::from(1 + (i + j) % 3))))
+            .collect();
+        let csr = Csr::from_triplets(2, 5000, triplets);
+        assert!(wnodf_ranked(&csr, None, Order::Sorted).is_none());
+        let want = wnodf_csr_with(&csr, Order::Given, PAIR_LIMIT).unwrap();
+        assert_eq!(
+            wnodf_ranked(&csr, None, Order::Given).unwrap().unwrap(),
+            want
+        );
     }
 
     /// Ranks keep the order of the weights, whole or not.
