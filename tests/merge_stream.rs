@@ -84,7 +84,11 @@ fn stderr(o: &std::process::Output) -> String {
 }
 
 fn network() -> Network<f64> {
-    nidus::io::read_network(&net_file("lib.csv"), &nidus::io::ReadOptions::default()).unwrap()
+    // Written once: tests run in parallel, and a second write truncating
+    // the file while another test reads it made that read fail.
+    static PATH: std::sync::OnceLock<PathBuf> = std::sync::OnceLock::new();
+    let path = PATH.get_or_init(|| net_file("lib.csv"));
+    nidus::io::read_network(path, &nidus::io::ReadOptions::default()).unwrap()
 }
 
 fn config(draws: usize, seed: u64) -> NullConfig {

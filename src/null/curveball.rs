@@ -406,7 +406,7 @@ fn flip_nth<const BMI2: bool, const ONES: bool>(words: &mut [u64], t: usize, mut
 /// A uniform `k`-subset of the ranks `0..t` (`0 < k < t`) written to the
 /// bit string `pick` (`t.div_ceil(64) + 1` words, the last one left zero).
 #[inline(always)]
-fn subset_words<R: Rng + ?Sized, const BMI2: bool>(
+pub(super) fn subset_words<R: Rng + ?Sized, const BMI2: bool>(
     draws: &mut Halves,
     rng: &mut R,
     t: usize,

@@ -5,7 +5,7 @@
 
 use rand::Rng;
 
-use crate::null::curveball::Halves;
+use crate::null::curveball::{subset_words, Halves};
 use crate::null::Chain;
 use crate::storage::{Csr, NetView};
 
@@ -17,9 +17,10 @@ use crate::storage::{Csr, NetView};
 /// One trade merges the two rows' sorted lists: the columns both rows hold
 /// stay; the others (the symmetric difference, `t` columns in ascending
 /// order) are pooled, and a uniform subset of the pool's ranks as large as
-/// `a`'s share `k` is drawn by Floyd's algorithm (Bentley & Floyd 1987,
-/// Commun. ACM 30:754) and goes to `a`, the rest to `b`; both rows are then
-/// written back ascending. Row and column degrees never change.
+/// `a`'s share `k` is drawn by the bit chain's subset sampler (Floyd's
+/// algorithm, Bentley & Floyd 1987, Commun. ACM 30:754, for a small side;
+/// exact-count coins otherwise) and goes to `a`, the rest to `b`; both rows
+/// are then written back ascending. Row and column degrees never change.
 ///
 /// The random numbers are drawn exactly as by the bit-table chain (the same
 /// pair of rows, the same ranks of the same pool in the same column
@@ -122,24 +123,14 @@ impl CurveballLists {
         if only_a == 0 || only_a == total {
             return;
         }
-        let (chosen, to_a) = if only_a <= total - only_a {
-            (only_a, true)
-        } else {
-            (total - only_a, false)
-        };
+        // The bit chain's subset of pool ranks for row `a` (the same draws
+        // from the stream), so a seed gives the same matrices in either
+        // storage.
         let pick = &mut self.pick;
         pick.clear();
-        pick.resize(total.div_ceil(64), 0);
-        for j in total - chosen..total {
-            let t = draws.below(rng, j + 1);
-            let r = if (pick[t >> 6] >> (t & 63)) & 1 == 0 {
-                t
-            } else {
-                j
-            };
-            pick[r >> 6] |= 1 << (r & 63);
-        }
-        let goes_to_a = |r: usize| ((pick[r >> 6] >> (r & 63)) & 1 == 1) == to_a;
+        pick.resize(total.div_ceil(64) + 1, 0);
+        subset_words::<R, false>(&mut draws, rng, total, only_a, pick);
+        let goes_to_a = |r: usize| (pick[r >> 6] >> (r & 63)) & 1 == 1;
         write_row(&mut indices[ra], common, pool, goes_to_a);
         write_row(&mut indices[rb], common, pool, |r| !goes_to_a(r));
     }
