@@ -787,10 +787,16 @@ pub fn parse_draws(text: &str, source: &Path) -> Result<Vec<SavedRun>> {
 /// Everything but the shard and the draws must agree between parts of one
 /// run: the first setting that differs, as "name a vs b", or `None`.
 pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
-    fn d<T: std::fmt::Debug + PartialEq>(name: &str, x: T, y: T) -> Option<String> {
-        (x != y).then(|| format!("{name} {x:?} vs {y:?}"))
+    fn d<T: std::fmt::Display + PartialEq>(name: &str, x: T, y: T) -> Option<String> {
+        (x != y).then(|| format!("{name} {x} vs {y}"))
     }
-    let names = |r: &NullRun| r.indices.iter().map(|k| k.name()).collect::<Vec<_>>();
+    let names = |r: &NullRun| {
+        r.indices
+            .iter()
+            .map(|k| k.name())
+            .collect::<Vec<_>>()
+            .join(",")
+    };
     d("model", a.model.name(), b.model.name())
         .or_else(|| d("seed", a.seed, b.seed))
         .or_else(|| d("draws", a.draws, b.draws))
@@ -798,15 +804,24 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
         .or_else(|| {
             d(
                 "shard count",
-                a.shard.map(|s| s.count()),
-                b.shard.map(|s| s.count()),
+                opt(a.shard.map(|s| s.count())),
+                opt(b.shard.map(|s| s.count())),
             )
         })
-        .or_else(|| d("stop_after", a.stop_after, b.stop_after))
-        .or_else(|| d("burn_in", a.burn_in, b.burn_in))
+        .or_else(|| d("stop_after", opt(a.stop_after), opt(b.stop_after)))
+        .or_else(|| d("burn_in", opt(a.burn_in), opt(b.burn_in)))
         .or_else(|| d("order", a.order.to_string(), b.order.to_string()))
-        .or_else(|| d("restarts (temperature packing)", a.restarts, b.restarts))
-        .or_else(|| d("network shape (rows, columns, links)", a.shape, b.shape))
+        .or_else(|| {
+            d(
+                "restarts (temperature packing)",
+                opt(a.restarts),
+                opt(b.restarts),
+            )
+        })
+        .or_else(|| {
+            let shape = |r: &NullRun| format!("{} x {}, {} links", r.shape.0, r.shape.1, r.shape.2);
+            d("network shape", shape(a), shape(b))
+        })
         .or_else(|| {
             (a.network != b.network).then(|| {
                 format!(
@@ -816,12 +831,8 @@ pub fn differing_setting(a: &NullRun, b: &NullRun) -> Option<String> {
             })
         })
         .or_else(|| {
-            d(
-                "observed values (the network files differ)",
-                a.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-                b.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>(),
-            )
-            .map(|_| {
+            let bits = |r: &NullRun| r.observed.iter().map(|v| v.to_bits()).collect::<Vec<_>>();
+            (bits(a) != bits(b)).then(|| {
                 format!(
                     "observed values {:?} vs {:?} (the network files differ)",
                     a.observed, b.observed
