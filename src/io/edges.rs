@@ -223,6 +223,108 @@ pub(super) fn count_byte(b: &[u8], x: u8) -> usize {
         .sum()
 }
 
+/// Bytes of `w` equal to `c`: the high bit of each such byte set, all other
+/// bits clear. Exact for every byte (no borrow runs from one byte into the
+/// next, unlike the shorter test for "some byte is zero"): a byte `x` of
+/// `w ^ c` is zero when neither its low seven bits (whose sum with 0x7F
+/// carries into bit 7 exactly when one is set) nor its high bit is set.
+#[inline]
+pub(super) fn byte_mask(w: u64, c: u8) -> u64 {
+    const LOW7: u64 = 0x7F7F_7F7F_7F7F_7F7F;
+    let x = w ^ (0x0101_0101_0101_0101 * u64::from(c));
+    !(((x & LOW7) + LOW7) | x | LOW7)
+}
+
+/// Trims the bytes [`Fields::is_space`] trims off both ends of `s`.
+#[inline(always)]
+fn trim_spaces<'a>(fields: &Fields<'a>, s: &'a str) -> &'a str {
+    let b = s.as_bytes();
+    let (mut a, mut e) = (0, b.len());
+    while a < e && fields.is_space(b[a]) {
+        a += 1;
+    }
+    while e > a && fields.is_space(b[e - 1]) {
+        e -= 1;
+    }
+    &s[a..e]
+}
+
+/// The common edge line, read in one scan: the line at the reader's
+/// position when it holds no quote and two or three fields whose first two
+/// are not empty once trimmed. Returns its line, row label, column label
+/// and weight field (empty when absent) and moves past it; for any other
+/// line (blank, quoted, too few or too many fields, an empty label)
+/// returns `None` and leaves the reader where it was, for
+/// [`Fields::next_record`], which yields the same fields for the lines
+/// taken here. The line end, the delimiters and quotes are found eight
+/// bytes at a time (see [`byte_mask`]).
+#[inline]
+pub(super) fn quick_edge<'a>(
+    fields: &mut Fields<'a>,
+) -> Option<(usize, &'a str, &'a str, &'a str)> {
+    let text = fields.text;
+    let bytes = text.as_bytes();
+    let delim = fields.delim;
+    let start = fields.pos;
+    let mut cuts = [0usize; 2];
+    let mut ncut = 0;
+    let mut p = start;
+    let end = 'scan: loop {
+        if let Some(word) = bytes.get(p..p + 8) {
+            let w = u64::from_le_bytes(word.try_into().ok()?);
+            let mut m = byte_mask(w, b'\n') | byte_mask(w, delim) | byte_mask(w, b'"');
+            while m != 0 {
+                let k = p + (m.trailing_zeros() / 8) as usize;
+                m &= m - 1;
+                match bytes[k] {
+                    b'\n' => break 'scan k,
+                    b'"' => return None,
+                    _ if ncut == 2 => return None,
+                    _ => {
+                        cuts[ncut] = k;
+                        ncut += 1;
+                    }
+                }
+            }
+            p += 8;
+        } else {
+            for (k, &b) in bytes.iter().enumerate().skip(p) {
+                if b == b'\n' {
+                    break 'scan k;
+                } else if b == b'"' || (b == delim && ncut == 2) {
+                    return None;
+                } else if b == delim {
+                    cuts[ncut] = k;
+                    ncut += 1;
+                }
+            }
+            break bytes.len();
+        }
+    };
+    if ncut == 0 {
+        return None;
+    }
+    let row = trim_spaces(fields, &text[start..cuts[0]]);
+    let col_end = if ncut == 2 { cuts[1] } else { end };
+    let col = trim_spaces(fields, &text[cuts[0] + 1..col_end]);
+    if row.is_empty() || col.is_empty() {
+        return None;
+    }
+    let weight = if ncut == 2 {
+        trim_spaces(fields, &text[cuts[1] + 1..end])
+    } else {
+        ""
+    };
+    let line = fields.line;
+    if end < bytes.len() {
+        fields.pos = end + 1;
+        fields.line += 1;
+    } else {
+        fields.pos = end;
+    }
+    Some((line, row, col, weight))
+}
+
 /// The edge lines of a file, with labels indexed.
 struct EdgeLines {
     rows: LabelIndex,
@@ -255,7 +357,24 @@ fn edge_lines<'a>(
         candidate: None,
     };
     let mut first = true;
-    while let Some(line) = fields.next_record(&mut rec)? {
+    loop {
+        if !first {
+            if let Some((line, r, c, w)) = quick_edge(fields) {
+                let weight = if w.is_empty() {
+                    1.0
+                } else {
+                    fields.value(w, line, 3, "a missing or empty weight counts as 1")?
+                };
+                batch.push((Cow::Borrowed(r), Cow::Borrowed(c), weight));
+                if batch.len() == LOOKUP_BATCH {
+                    resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                }
+                continue;
+            }
+        }
+        let Some(line) = fields.next_record(&mut rec)? else {
+            break;
+        };
         if first {
             first = false;
             let skip = match header {
