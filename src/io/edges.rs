@@ -164,32 +164,47 @@ const LOOKUP_BATCH: usize = 256;
 /// table), so the slots of the whole batch are first prefetched in one loop
 /// (see [`LabelIndex::peek`]), which the processor overlaps, then looked up.
 fn resolve_batch(
-    batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
+    batch: &mut Vec<(&str, &str, f64)>,
     chunk: &mut EdgeLines,
     source: &Path,
 ) -> Result<()> {
     let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
     let mut touched = 0u32;
-    for (h, (r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
+    for (h, &(r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
         *h = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
         touched ^= chunk.rows.peek(h.0) ^ chunk.cols.peek(h.1);
     }
     std::hint::black_box(touched);
-    for (h, (r, c, w)) in hashes.iter().zip(batch.drain(..)) {
-        match (
-            chunk.rows.get_or_insert(&r, h.0),
-            chunk.cols.get_or_insert(&c, h.1),
-        ) {
-            (Some(i), Some(j)) => chunk.entries.push((i, j, w)),
-            _ => {
-                return Err(Error::InvalidArgument(format!(
-                    "{}: more than 2^32 - 1 distinct labels on one side",
-                    source.display()
-                )))
-            }
-        }
+    for (h, &(r, c, w)) in hashes.iter().zip(batch.iter()) {
+        add_line(chunk, (r, h.0), (c, h.1), w, source)?;
     }
+    batch.clear();
     Ok(())
+}
+
+/// Interns a line's row and column labels (each with its [`label_hash`])
+/// and adds its entry.
+#[inline]
+fn add_line(
+    chunk: &mut EdgeLines,
+    (r, hr): (&str, u64),
+    (c, hc): (&str, u64),
+    w: f64,
+    source: &Path,
+) -> Result<()> {
+    match (
+        chunk.rows.get_or_insert(r, hr),
+        chunk.cols.get_or_insert(c, hc),
+    ) {
+        (Some(i), Some(j)) => {
+            chunk.entries.push((i, j, w));
+            Ok(())
+        }
+        _ => Err(Error::InvalidArgument(format!(
+            "{}: more than 2^32 - 1 distinct labels on one side",
+            source.display()
+        ))),
+    }
 }
 
 /// A fast hash of a short byte string (not resistant to crafted collisions:
@@ -346,7 +361,7 @@ fn edge_lines<'a>(
     report: &mut ReadReport,
 ) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
-    let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
+    let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
     let lines_guess = count_byte(fields.text.as_bytes(), b'\n') + 1;
     let mut chunk = EdgeLines {
@@ -360,12 +375,15 @@ fn edge_lines<'a>(
     loop {
         if !first {
             if let Some((line, r, c, w)) = quick_edge(fields) {
-                let weight = if w.is_empty() {
-                    1.0
-                } else {
-                    fields.value(w, line, 3, "a missing or empty weight counts as 1")?
+                // A plain decimal is what `Fields::value` would return for
+                // it (its first step) unless `;` delimits, where decimal
+                // marks are tracked.
+                let weight = match plain_decimal(w.as_bytes()) {
+                    _ if w.is_empty() => 1.0,
+                    Some(x) if !decimal_comma => x,
+                    _ => fields.value(w, line, 3, "a missing or empty weight counts as 1")?,
                 };
-                batch.push((Cow::Borrowed(r), Cow::Borrowed(c), weight));
+                batch.push((r, c, weight));
                 if batch.len() == LOOKUP_BATCH {
                     resolve_batch(&mut batch, &mut chunk, fields.source)?;
                 }
@@ -446,11 +464,20 @@ fn edge_lines<'a>(
                 ));
             }
         }
-        let r = std::mem::take(&mut rec[0]);
-        let c = std::mem::take(&mut rec[1]);
-        batch.push((r, c, weight));
-        if batch.len() == LOOKUP_BATCH {
-            resolve_batch(&mut batch, &mut chunk, fields.source)?;
+        match (&rec[0], &rec[1]) {
+            (&Cow::Borrowed(r), &Cow::Borrowed(c)) => {
+                batch.push((r, c, weight));
+                if batch.len() == LOOKUP_BATCH {
+                    resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                }
+            }
+            // A label unquoted into a new string (it held `""`): the lines
+            // before it first, to keep the order of first appearance.
+            (r, c) => {
+                resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                let (hr, hc) = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
+                add_line(&mut chunk, (r, hr), (c, hc), weight, fields.source)?;
+            }
         }
     }
     resolve_batch(&mut batch, &mut chunk, fields.source)?;
