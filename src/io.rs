@@ -1222,7 +1222,7 @@ mod tests {
         let order: Vec<usize> = (0..3 * labels.len())
             .map(|k| (k * 7919) % labels.len())
             .collect();
-        let mut fast = LabelIndex::new();
+        let mut fast = LabelIndex::for_lines(0);
         let mut slow: HashMap<&str, u32> = HashMap::new();
         let mut slow_order: Vec<&str> = Vec::new();
         for &k in &order {

@@ -64,9 +64,19 @@ fn slot_tag(hash: u64, len: usize) -> u32 {
 }
 
 impl LabelIndex {
-    pub(super) fn new() -> Self {
+    /// An empty table for a file of about `lines` lines: room for
+    /// `lines / 8` labels before it grows (at least 768 labels, 1024
+    /// slots). Growing by doubling writes every smaller table in turn and
+    /// hashes every label again; the table starts at 2 bytes per line (a
+    /// 10^6-line file: 2 MB), an eighth of the entries the file fills.
+    pub(super) fn for_lines(lines: usize) -> Self {
+        let slots = (lines / 8)
+            .saturating_mul(4)
+            .div_ceil(3)
+            .next_power_of_two()
+            .max(1024);
         LabelIndex {
-            slots: vec![Slot::default(); 1024],
+            slots: vec![Slot::default(); slots],
             hashes: Vec::new(),
             arena: String::new(),
             ends: Vec::new(),
@@ -365,8 +375,8 @@ fn edge_lines<'a>(
     let decimal_comma = fields.delim == b';';
     let lines_guess = count_byte(fields.text.as_bytes(), b'\n') + 1;
     let mut chunk = EdgeLines {
-        rows: LabelIndex::new(),
-        cols: LabelIndex::new(),
+        rows: LabelIndex::for_lines(lines_guess),
+        cols: LabelIndex::for_lines(lines_guess),
         entries: Vec::with_capacity(lines_guess),
         header_line: None,
         candidate: None,
