@@ -987,7 +987,7 @@ fn write_label<W: Write>(out: &mut W, label: &str) -> std::io::Result<()> {
 
 #[cfg(test)]
 mod tests {
-    use super::edges::{count_byte, label_hash, load_short, LabelIndex};
+    use super::edges::{byte_mask, count_byte, label_hash, load_short, quick_edge, LabelIndex};
     use super::matrix::check_table_size;
     use super::*;
 
@@ -1222,7 +1222,7 @@ mod tests {
         let order: Vec<usize> = (0..3 * labels.len())
             .map(|k| (k * 7919) % labels.len())
             .collect();
-        let mut fast = LabelIndex::new();
+        let mut fast = LabelIndex::for_lines(0);
         let mut slow: HashMap<&str, u32> = HashMap::new();
         let mut slow_order: Vec<&str> = Vec::new();
         for &k in &order {
@@ -1239,5 +1239,99 @@ mod tests {
             );
         }
         assert_eq!(fast.into_strings(), slow_order);
+    }
+
+    /// The word-wide byte test against a byte-by-byte comparison: every
+    /// byte value at every position of a word, next to bytes that would
+    /// make the usual "some byte is zero" test borrow into a neighbour.
+    #[test]
+    fn byte_masks_match_a_plain_comparison() {
+        for c in [b'\n', b',', b'\t', b';', b'"', 0, 0x80, 0xFF] {
+            for v in 0..=255u8 {
+                for k in 0..8 {
+                    for fill in [c ^ 1, c.wrapping_add(1), c ^ 0x80, 0, 0xFF] {
+                        let mut b = [fill; 8];
+                        b[k] = v;
+                        let want = b
+                            .iter()
+                            .enumerate()
+                            .fold(0u64, |m, (i, &x)| m | (u64::from(x == c) << (8 * i + 7)));
+                        assert_eq!(byte_mask(u64::from_le_bytes(b), c), want, "{b:?} {c}");
+                    }
+                }
+            }
+        }
+    }
+
+    /// The one-scan edge line against the general splitter: on random
+    /// lines of labels, spaces, tabs, carriage returns, delimiters, quotes
+    /// and line breaks, whenever the scan takes a line it yields the
+    /// splitter's fields, line number and position after the line, and it
+    /// takes every quote-free line of two or three fields with non-empty
+    /// labels.
+    #[test]
+    fn quick_edge_lines_match_the_splitter() {
+        let pieces = [
+            "a",
+            "bee",
+            "Bombus terrestris",
+            "é",
+            "12",
+            "0.5",
+            " ",
+            "\t",
+            "\r",
+            ",",
+            ";",
+            "\"",
+            "\n",
+            "x_longer_than_eight",
+            "",
+        ];
+        let mut seed = 0x2545_F491_4F6C_DD1Du64;
+        for _ in 0..20_000 {
+            let mut text = String::new();
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            let n = (seed % 12) as usize;
+            let mut s = seed;
+            for _ in 0..n {
+                s = s.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1);
+                text.push_str(pieces[(s >> 33) as usize % pieces.len()]);
+            }
+            for delim in [b',', b'\t', b';'] {
+                let mut quick = Fields::new(&text, delim, Path::new("t"));
+                let mut slow = Fields::new(&text, delim, Path::new("t"));
+                let mut rec = Vec::new();
+                let taken = quick_edge(&mut quick);
+                let line = slow.next_nonblank(&mut rec).unwrap_or(None);
+                if line.is_none() {
+                    rec.clear();
+                }
+                match taken {
+                    Some((l, r, c, w)) => {
+                        assert_eq!(Some(l), line, "{text:?}");
+                        let mut want: Vec<&str> = vec![r, c];
+                        if rec.len() == 3 {
+                            want.push(w);
+                        } else {
+                            assert_eq!(w, "", "{text:?}");
+                        }
+                        assert_eq!(rec, want, "{text:?} {delim}");
+                        assert_eq!((quick.pos, quick.line), (slow.pos, slow.line), "{text:?}");
+                    }
+                    None => {
+                        assert_eq!((quick.pos, quick.line), (0, 1), "{text:?}");
+                        let plain = line == Some(1)
+                            && (2..=3).contains(&rec.len())
+                            && !rec[0].is_empty()
+                            && !rec[1].is_empty()
+                            && !text.split('\n').next().unwrap_or("").contains('"');
+                        assert!(!plain, "{text:?} {delim} {rec:?}");
+                    }
+                }
+            }
+        }
     }
 }

@@ -64,9 +64,19 @@ fn slot_tag(hash: u64, len: usize) -> u32 {
 }
 
 impl LabelIndex {
-    pub(super) fn new() -> Self {
+    /// An empty table for a file of about `lines` lines: room for
+    /// `lines / 8` labels before it grows (at least 768 labels, 1024
+    /// slots). Growing by doubling writes every smaller table in turn and
+    /// hashes every label again; the table starts at 2 bytes per line (a
+    /// 10^6-line file: 2 MB), an eighth of the entries the file fills.
+    pub(super) fn for_lines(lines: usize) -> Self {
+        let slots = (lines / 8)
+            .saturating_mul(4)
+            .div_ceil(3)
+            .next_power_of_two()
+            .max(1024);
         LabelIndex {
-            slots: vec![Slot::default(); 1024],
+            slots: vec![Slot::default(); slots],
             hashes: Vec::new(),
             arena: String::new(),
             ends: Vec::new(),
@@ -164,32 +174,47 @@ const LOOKUP_BATCH: usize = 256;
 /// table), so the slots of the whole batch are first prefetched in one loop
 /// (see [`LabelIndex::peek`]), which the processor overlaps, then looked up.
 fn resolve_batch(
-    batch: &mut Vec<(Cow<'_, str>, Cow<'_, str>, f64)>,
+    batch: &mut Vec<(&str, &str, f64)>,
     chunk: &mut EdgeLines,
     source: &Path,
 ) -> Result<()> {
     let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
     let mut touched = 0u32;
-    for (h, (r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
+    for (h, &(r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
         *h = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
         touched ^= chunk.rows.peek(h.0) ^ chunk.cols.peek(h.1);
     }
     std::hint::black_box(touched);
-    for (h, (r, c, w)) in hashes.iter().zip(batch.drain(..)) {
-        match (
-            chunk.rows.get_or_insert(&r, h.0),
-            chunk.cols.get_or_insert(&c, h.1),
-        ) {
-            (Some(i), Some(j)) => chunk.entries.push((i, j, w)),
-            _ => {
-                return Err(Error::InvalidArgument(format!(
-                    "{}: more than 2^32 - 1 distinct labels on one side",
-                    source.display()
-                )))
-            }
-        }
+    for (h, &(r, c, w)) in hashes.iter().zip(batch.iter()) {
+        add_line(chunk, (r, h.0), (c, h.1), w, source)?;
     }
+    batch.clear();
     Ok(())
+}
+
+/// Interns a line's row and column labels (each with its [`label_hash`])
+/// and adds its entry.
+#[inline]
+fn add_line(
+    chunk: &mut EdgeLines,
+    (r, hr): (&str, u64),
+    (c, hc): (&str, u64),
+    w: f64,
+    source: &Path,
+) -> Result<()> {
+    match (
+        chunk.rows.get_or_insert(r, hr),
+        chunk.cols.get_or_insert(c, hc),
+    ) {
+        (Some(i), Some(j)) => {
+            chunk.entries.push((i, j, w));
+            Ok(())
+        }
+        _ => Err(Error::InvalidArgument(format!(
+            "{}: more than 2^32 - 1 distinct labels on one side",
+            source.display()
+        ))),
+    }
 }
 
 /// A fast hash of a short byte string (not resistant to crafted collisions:
@@ -223,6 +248,108 @@ pub(super) fn count_byte(b: &[u8], x: u8) -> usize {
         .sum()
 }
 
+/// Bytes of `w` equal to `c`: the high bit of each such byte set, all other
+/// bits clear. Exact for every byte (no borrow runs from one byte into the
+/// next, unlike the shorter test for "some byte is zero"): a byte `x` of
+/// `w ^ c` is zero when neither its low seven bits (whose sum with 0x7F
+/// carries into bit 7 exactly when one is set) nor its high bit is set.
+#[inline]
+pub(super) fn byte_mask(w: u64, c: u8) -> u64 {
+    const LOW7: u64 = 0x7F7F_7F7F_7F7F_7F7F;
+    let x = w ^ (0x0101_0101_0101_0101 * u64::from(c));
+    !(((x & LOW7) + LOW7) | x | LOW7)
+}
+
+/// Trims the bytes [`Fields::is_space`] trims off both ends of `s`.
+#[inline(always)]
+fn trim_spaces<'a>(fields: &Fields<'a>, s: &'a str) -> &'a str {
+    let b = s.as_bytes();
+    let (mut a, mut e) = (0, b.len());
+    while a < e && fields.is_space(b[a]) {
+        a += 1;
+    }
+    while e > a && fields.is_space(b[e - 1]) {
+        e -= 1;
+    }
+    &s[a..e]
+}
+
+/// The common edge line, read in one scan: the line at the reader's
+/// position when it holds no quote and two or three fields whose first two
+/// are not empty once trimmed. Returns its line, row label, column label
+/// and weight field (empty when absent) and moves past it; for any other
+/// line (blank, quoted, too few or too many fields, an empty label)
+/// returns `None` and leaves the reader where it was, for
+/// [`Fields::next_record`], which yields the same fields for the lines
+/// taken here. The line end, the delimiters and quotes are found eight
+/// bytes at a time (see [`byte_mask`]).
+#[inline]
+pub(super) fn quick_edge<'a>(
+    fields: &mut Fields<'a>,
+) -> Option<(usize, &'a str, &'a str, &'a str)> {
+    let text = fields.text;
+    let bytes = text.as_bytes();
+    let delim = fields.delim;
+    let start = fields.pos;
+    let mut cuts = [0usize; 2];
+    let mut ncut = 0;
+    let mut p = start;
+    let end = 'scan: loop {
+        if let Some(word) = bytes.get(p..p + 8) {
+            let w = u64::from_le_bytes(word.try_into().ok()?);
+            let mut m = byte_mask(w, b'\n') | byte_mask(w, delim) | byte_mask(w, b'"');
+            while m != 0 {
+                let k = p + (m.trailing_zeros() / 8) as usize;
+                m &= m - 1;
+                match bytes[k] {
+                    b'\n' => break 'scan k,
+                    b'"' => return None,
+                    _ if ncut == 2 => return None,
+                    _ => {
+                        cuts[ncut] = k;
+                        ncut += 1;
+                    }
+                }
+            }
+            p += 8;
+        } else {
+            for (k, &b) in bytes.iter().enumerate().skip(p) {
+                if b == b'\n' {
+                    break 'scan k;
+                } else if b == b'"' || (b == delim && ncut == 2) {
+                    return None;
+                } else if b == delim {
+                    cuts[ncut] = k;
+                    ncut += 1;
+                }
+            }
+            break bytes.len();
+        }
+    };
+    if ncut == 0 {
+        return None;
+    }
+    let row = trim_spaces(fields, &text[start..cuts[0]]);
+    let col_end = if ncut == 2 { cuts[1] } else { end };
+    let col = trim_spaces(fields, &text[cuts[0] + 1..col_end]);
+    if row.is_empty() || col.is_empty() {
+        return None;
+    }
+    let weight = if ncut == 2 {
+        trim_spaces(fields, &text[cuts[1] + 1..end])
+    } else {
+        ""
+    };
+    let line = fields.line;
+    if end < bytes.len() {
+        fields.pos = end + 1;
+        fields.line += 1;
+    } else {
+        fields.pos = end;
+    }
+    Some((line, row, col, weight))
+}
+
 /// The edge lines of a file, with labels indexed.
 struct EdgeLines {
     rows: LabelIndex,
@@ -244,18 +371,38 @@ fn edge_lines<'a>(
     report: &mut ReadReport,
 ) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
-    let mut batch: Vec<(Cow<'a, str>, Cow<'a, str>, f64)> = Vec::with_capacity(LOOKUP_BATCH);
+    let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
     let lines_guess = count_byte(fields.text.as_bytes(), b'\n') + 1;
     let mut chunk = EdgeLines {
-        rows: LabelIndex::new(),
-        cols: LabelIndex::new(),
+        rows: LabelIndex::for_lines(lines_guess),
+        cols: LabelIndex::for_lines(lines_guess),
         entries: Vec::with_capacity(lines_guess),
         header_line: None,
         candidate: None,
     };
     let mut first = true;
-    while let Some(line) = fields.next_record(&mut rec)? {
+    loop {
+        if !first {
+            if let Some((line, r, c, w)) = quick_edge(fields) {
+                // A plain decimal is what `Fields::value` would return for
+                // it (its first step) unless `;` delimits, where decimal
+                // marks are tracked.
+                let weight = match plain_decimal(w.as_bytes()) {
+                    _ if w.is_empty() => 1.0,
+                    Some(x) if !decimal_comma => x,
+                    _ => fields.value(w, line, 3, "a missing or empty weight counts as 1")?,
+                };
+                batch.push((r, c, weight));
+                if batch.len() == LOOKUP_BATCH {
+                    resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                }
+                continue;
+            }
+        }
+        let Some(line) = fields.next_record(&mut rec)? else {
+            break;
+        };
         if first {
             first = false;
             let skip = match header {
@@ -327,11 +474,20 @@ fn edge_lines<'a>(
                 ));
             }
         }
-        let r = std::mem::take(&mut rec[0]);
-        let c = std::mem::take(&mut rec[1]);
-        batch.push((r, c, weight));
-        if batch.len() == LOOKUP_BATCH {
-            resolve_batch(&mut batch, &mut chunk, fields.source)?;
+        match (&rec[0], &rec[1]) {
+            (&Cow::Borrowed(r), &Cow::Borrowed(c)) => {
+                batch.push((r, c, weight));
+                if batch.len() == LOOKUP_BATCH {
+                    resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                }
+            }
+            // A label unquoted into a new string (it held `""`): the lines
+            // before it first, to keep the order of first appearance.
+            (r, c) => {
+                resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                let (hr, hc) = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
+                add_line(&mut chunk, (r, hr), (c, hc), weight, fields.source)?;
+            }
         }
     }
     resolve_batch(&mut batch, &mut chunk, fields.source)?;
