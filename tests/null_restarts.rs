@@ -396,10 +396,7 @@ fn resume_checks_the_restarts() {
     );
     let other: Vec<&str> = other.iter().map(String::as_str).collect();
     let e = refused(&other);
-    assert!(
-        e.contains("restarts (temperature packing) 2 vs 1"),
-        "{e}"
-    );
+    assert!(e.contains("restarts (temperature packing) 2 vs 1"), "{e}");
     let same = run(
         "1",
         &[
