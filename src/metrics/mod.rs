@@ -66,6 +66,24 @@ impl FromStr for Order {
     }
 }
 
+/// The tie groups of a degree order `ord` (from [`degree_order`]): the
+/// ranges `p..q` of positions in `ord` whose members share one degree, in
+/// order.
+pub(crate) fn tie_groups(degrees: &[usize], ord: &[usize]) -> Vec<std::ops::Range<usize>> {
+    let m = ord.len();
+    let mut groups = Vec::new();
+    let mut p = 0;
+    while p < m {
+        let mut q = p + 1;
+        while q < m && degrees[ord[q]] == degrees[ord[p]] {
+            q += 1;
+        }
+        groups.push(p..q);
+        p = q;
+    }
+    groups
+}
+
 /// Positions `0..degrees.len()` by decreasing degree, ties in input order
 /// (a stable sort), the "sorted" convention of docs/methods.md.
 ///

@@ -185,11 +185,7 @@ impl CurveballChain {
             return;
         }
         let mut draws = Halves::default();
-        let a = draws.below(rng, m);
-        let mut b = draws.below(rng, m - 1);
-        if b >= a {
-            b += 1;
-        }
+        let (a, b) = draws.row_pair(rng, m);
         let (ra, rb) = self.bits.two_rows_mut(a, b);
         let (mut only_a, mut total) = (0usize, 0usize);
         for (&x, &y) in ra.iter().zip(rb.iter()) {
@@ -471,6 +467,18 @@ impl Halves {
             self.left = true;
             self.word & 0xFFFF_FFFF
         }
+    }
+
+    /// Two distinct rows of `m >= 2`, uniformly: the trade's pair, drawn
+    /// the same way by the bit-table and the list chain.
+    #[inline(always)]
+    pub(super) fn row_pair<R: Rng + ?Sized>(&mut self, rng: &mut R, m: usize) -> (usize, usize) {
+        let a = self.below(rng, m);
+        let mut b = self.below(rng, m - 1);
+        if b >= a {
+            b += 1;
+        }
+        (a, b)
     }
 
     #[inline(always)]

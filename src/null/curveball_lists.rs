@@ -86,11 +86,7 @@ impl CurveballLists {
             return;
         }
         let mut draws = Halves::default();
-        let a = draws.below(rng, m);
-        let mut b = draws.below(rng, m - 1);
-        if b >= a {
-            b += 1;
-        }
+        let (a, b) = draws.row_pair(rng, m);
         let (indptr, indices) = self.rows.lists_mut();
         let (ra, rb) = (indptr[a]..indptr[a + 1], indptr[b]..indptr[b + 1]);
         let (common, pool) = (&mut self.common, &mut self.pool);

@@ -85,16 +85,7 @@ fn overlaps_sorted(b: &BitMatrix, degrees: &[usize], path: PopcountPath) -> Vec<
 
     let ord = degree_order(degrees);
     // Tie groups as ranges of `ord`.
-    let mut groups = Vec::new();
-    let mut p = 0;
-    while p < m {
-        let mut q = p + 1;
-        while q < m && degrees[ord[q]] == degrees[ord[p]] {
-            q += 1;
-        }
-        groups.push(p..q);
-        p = q;
-    }
+    let groups = crate::metrics::tie_groups(degrees, &ord);
     // Column counts up to m need this many bit planes.
     let planes = (usize::BITS - m.leading_zeros()).max(1) as usize;
     let stripes = if (m as u128) * (words as u128) < 1 << 16 {

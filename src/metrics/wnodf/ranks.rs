@@ -236,16 +236,7 @@ fn sorted_counts(
     let m = degrees.len();
     let ord = degree_order(degrees);
     // Tie groups of the degree order.
-    let mut groups = Vec::new();
-    let mut p = 0;
-    while p < m {
-        let mut q = p + 1;
-        while q < m && degrees[ord[q]] == degrees[ord[p]] {
-            q += 1;
-        }
-        groups.push((p, q));
-        p = q;
-    }
+    let groups = crate::metrics::tie_groups(degrees, &ord);
     // Ranges of lists holding about equal numbers of links.
     let links = idx.len();
     let tasks = if links < (1 << 16) || nlists < 64 {
@@ -302,7 +293,7 @@ struct Job<'a> {
     idx: &'a [u32],
     rank: &'a [u32],
     ord: &'a [usize],
-    groups: &'a [(usize, usize)],
+    groups: &'a [std::ops::Range<usize>],
     /// One task holds every list (no search for the range).
     whole: bool,
 }
@@ -352,7 +343,7 @@ impl Job<'_> {
         let mut hits = vec![0u64; self.ptr.len() - 1];
         let mut band = vec![[C::default(); W]; (hi - lo) as usize];
         let last = self.groups.len();
-        for (g, &(p, q)) in self.groups.iter().enumerate() {
+        for (g, &std::ops::Range { start: p, end: q }) in self.groups.iter().enumerate() {
             for &i in &self.ord[p..q] {
                 let mut c = 0u64;
                 for e in self.span(i, lo, hi) {
@@ -383,7 +374,7 @@ impl Job<'_> {
         let mut tree = vec![0u32; lists * w];
         let mut seen = vec![0u32; lists];
         let last = self.groups.len();
-        for (g, &(p, q)) in self.groups.iter().enumerate() {
+        for (g, &std::ops::Range { start: p, end: q }) in self.groups.iter().enumerate() {
             for &i in &self.ord[p..q] {
                 let mut c = 0u64;
                 for e in self.span(i, lo, hi) {
@@ -606,16 +597,7 @@ mod tests {
             let rd = list_degrees(csr.indptr());
             let want = sorted_counts(csr.indptr(), csr.indices(), &ranks, n, &rd, distinct);
             let ord = degree_order(&rd);
-            let mut groups = Vec::new();
-            let mut p = 0;
-            while p < m {
-                let mut q = p + 1;
-                while q < m && rd[ord[q]] == rd[ord[p]] {
-                    q += 1;
-                }
-                groups.push((p, q));
-                p = q;
-            }
+            let groups = crate::metrics::tie_groups(&rd, &ord);
             for whole in [true, false] {
                 let job = Job {
                     ptr: csr.indptr(),
