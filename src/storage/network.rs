@@ -14,6 +14,7 @@ use std::sync::OnceLock;
 
 use ndarray::{Array2, ArrayView2};
 use num_traits::{ToPrimitive, Zero};
+use rayon::prelude::*;
 
 use crate::error::{Error, Result};
 use crate::storage::bits::BitMatrix;
@@ -71,51 +72,81 @@ impl<T: Weight> Csr<T> {
         for &(i, _, _) in &entries {
             start[i as usize + 1] += 1;
         }
+        Self::from_counted_triplets(nrows, ncols, entries, start)
+    }
+
+    /// [`from_triplets`](Self::from_triplets) with the triplets of each row
+    /// counted beforehand: `counts[i + 1]` holds the number of triplets of
+    /// row `i` (`counts[0]` is 0, `counts.len()` is `nrows + 1`), so that a
+    /// caller already passing over the triplets saves a pass.
+    pub(crate) fn from_counted_triplets(
+        nrows: usize,
+        ncols: usize,
+        entries: Vec<(u32, u32, T)>,
+        counts: Vec<usize>,
+    ) -> Self {
+        let mut start = counts;
+        debug_assert_eq!(start.len(), nrows + 1);
         for i in 0..nrows {
             start[i + 1] += start[i];
         }
-        // Scatter into row order, in the arrays that are kept.
-        let mut next = start.clone();
-        let mut indices = vec![0u32; entries.len()];
-        let mut values: Vec<T> = vec![T::zero(); entries.len()];
-        const AHEAD: usize = 16;
-        for (k, (i, j, w)) in entries.iter().copied().enumerate() {
-            if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
-                let s = next[r as usize];
-                prefetch_write(indices.as_ptr().wrapping_add(s));
-                prefetch_write(values.as_ptr().wrapping_add(s));
+        debug_assert_eq!(start[nrows], entries.len());
+        // Blocks of consecutive rows with about equal numbers of triplets,
+        // one per thread. Each block's task reads all triplets in order and
+        // scatters its own rows' into its own part of the kept arrays, then
+        // sorts and compacts them there, so every row is built exactly as
+        // by one task alone, for any number of blocks.
+        let len = entries.len();
+        let parts = if len < PARALLEL_TRIPLETS {
+            1
+        } else {
+            rayon::current_num_threads().clamp(1, 64)
+        };
+        let mut bounds = vec![0usize];
+        for p in 1..parts {
+            let r = start.partition_point(|&s| s < len * p / parts).min(nrows);
+            if r > *bounds.last().unwrap_or(&0) {
+                bounds.push(r);
             }
-            let slot = &mut next[i as usize];
-            indices[*slot] = j;
-            values[*slot] = w;
-            *slot += 1;
         }
-        drop(next);
-        drop(entries);
-        // Sort each row by column (stably), sum repeats in input order and
-        // drop zero cells, compacting in place.
+        if nrows > *bounds.last().unwrap_or(&0) {
+            bounds.push(nrows);
+        }
+        let mut indices = vec![0u32; len];
+        let mut values: Vec<T> = vec![T::zero(); len];
         let mut indptr = vec![0usize; nrows + 1];
-        let mut out = 0;
-        for i in 0..nrows {
-            let (a, b) = (start[i], start[i + 1]);
-            sort_row(&mut indices[a..b], &mut values[a..b]);
-            let mut k = a;
-            while k < b {
-                let j = indices[k];
-                let mut w = values[k];
-                k += 1;
-                while k < b && indices[k] == j {
-                    w = w + values[k];
-                    k += 1;
-                }
-                // Drop zero cells (a zero weight, or zeros summed).
-                if !w.is_zero() {
-                    indices[out] = j;
-                    values[out] = w;
-                    out += 1;
-                }
+        let mut jobs = Vec::with_capacity(bounds.len());
+        {
+            let (mut idx, mut val, mut ptr) = (&mut indices[..], &mut values[..], &mut indptr[1..]);
+            for w in bounds.windows(2) {
+                let (r0, r1) = (w[0], w[1]);
+                let size = start[r1] - start[r0];
+                let (bi, rest_i) = idx.split_at_mut(size);
+                let (bv, rest_v) = val.split_at_mut(size);
+                let (bp, rest_p) = ptr.split_at_mut(r1 - r0);
+                (idx, val, ptr) = (rest_i, rest_v, rest_p);
+                jobs.push((r0, r1, bi, bv, bp));
             }
-            indptr[i + 1] = out;
+        }
+        let start = &start;
+        let entries = &entries;
+        let kept: Vec<usize> = jobs
+            .into_par_iter()
+            .map(|(r0, r1, idx, val, ptr)| row_block(entries, start, (r0, r1), idx, val, ptr))
+            .collect();
+        // Close the gaps left by dropped cells, block by block.
+        let mut out = 0;
+        for (w, &k) in bounds.windows(2).zip(&kept) {
+            let (r0, r1) = (w[0], w[1]);
+            let from = start[r0];
+            if from != out {
+                indices.copy_within(from..from + k, out);
+                values.copy_within(from..from + k, out);
+            }
+            for p in &mut indptr[r0 + 1..=r1] {
+                *p += out;
+            }
+            out += k;
         }
         indices.truncate(out);
         values.truncate(out);
@@ -267,6 +298,69 @@ impl Csr<f64> {
     pub(crate) fn lists_mut(&mut self) -> (&[usize], &mut [u32]) {
         (&self.indptr, &mut self.indices)
     }
+}
+
+/// Fewest triplets that [`Csr::from_counted_triplets`] splits over threads.
+const PARALLEL_TRIPLETS: usize = 1 << 16;
+
+/// One block of rows `r0..r1` of [`Csr::from_counted_triplets`]: scatters
+/// the block's triplets (read in input order) into `idx` and `val` (the
+/// block's part of the kept arrays, `start[r0]..start[r1]`), then sorts each
+/// row by column (stably), sums repeats in input order and drops zero
+/// cells, compacting within the block. Writes each row's end, relative to
+/// the block, into `ptr` and returns the number of cells kept.
+fn row_block<T: Weight>(
+    entries: &[(u32, u32, T)],
+    start: &[usize],
+    (r0, r1): (usize, usize),
+    idx: &mut [u32],
+    val: &mut [T],
+    ptr: &mut [usize],
+) -> usize {
+    let base = start[r0];
+    let mut next: Vec<usize> = start[r0..r1].iter().map(|&s| s - base).collect();
+    let whole = r0 == 0 && r1 == start.len() - 1;
+    const AHEAD: usize = 16;
+    for (k, &(i, j, w)) in entries.iter().enumerate() {
+        if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
+            if let Some(&s) = next.get((r as usize).wrapping_sub(r0)) {
+                prefetch_write(idx.as_ptr().wrapping_add(s));
+                prefetch_write(val.as_ptr().wrapping_add(s));
+            }
+        }
+        let i = i as usize;
+        if !whole && (i < r0 || i >= r1) {
+            continue;
+        }
+        let slot = &mut next[i - r0];
+        idx[*slot] = j;
+        val[*slot] = w;
+        *slot += 1;
+    }
+    drop(next);
+    let mut out = 0;
+    for (i, end) in (r0..r1).zip(ptr.iter_mut()) {
+        let (a, b) = (start[i] - base, start[i + 1] - base);
+        sort_row(&mut idx[a..b], &mut val[a..b]);
+        let mut k = a;
+        while k < b {
+            let j = idx[k];
+            let mut w = val[k];
+            k += 1;
+            while k < b && idx[k] == j {
+                w = w + val[k];
+                k += 1;
+            }
+            // Drop zero cells (a zero weight, or zeros summed).
+            if !w.is_zero() {
+                idx[out] = j;
+                val[out] = w;
+                out += 1;
+            }
+        }
+        *end = out;
+    }
+    out
 }
 
 /// Sorts one row's cells by column, stably (equal columns keep their
@@ -454,12 +548,15 @@ impl<T: Weight> Network<T> {
         check_shape(m, n)?;
         debug_assert!(check_labels("row", &row_labels, m).is_ok());
         debug_assert!(check_labels("column", &col_labels, n).is_ok());
+        // The rows' triplets are counted in the checking pass.
+        let mut counts = vec![0usize; m + 1];
         for &(i, j, w) in &entries {
             if i as usize >= m || j as usize >= n {
                 return Err(Error::InvalidArgument(format!(
                     "cell ({i}, {j}) lies outside the {m} x {n} network"
                 )));
             }
+            counts[i as usize + 1] += 1;
             if let Some(problem) = weight_problem(w) {
                 return Err(Error::BadWeight {
                     row: row_labels[i as usize].clone(),
@@ -469,7 +566,7 @@ impl<T: Weight> Network<T> {
                 });
             }
         }
-        let csr = Csr::from_triplets(m, n, entries);
+        let csr = Csr::from_counted_triplets(m, n, entries, counts);
         let cells_total = (m as u128) * (n as u128);
         let sparse = cells_total > tolerance::SPARSE_MIN_CELLS
             && (csr.links() as f64) < tolerance::SPARSE_MAX_FILL * cells_total as f64;
@@ -894,6 +991,61 @@ mod tests {
             assert_eq!(csr.indices(), &indices[..]);
             let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
             assert_eq!(bits, values);
+        }
+    }
+
+    /// The same brute-force rule on inputs large enough to be split over
+    /// threads (rows built in blocks, see `row_block`): every thread count
+    /// gives the cells of the rule bit for bit, with short rows, long rows
+    /// (the library sort), empty rows and zero sums.
+    #[test]
+    fn triplets_in_row_blocks_match_brute_force_for_any_thread_count() {
+        use rand::{Rng, SeedableRng};
+        let weights = [0.0, 0.1, 0.2, 1.0, -1.0, 1e16, -1e16, 3.0];
+        let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(11);
+        for (m, n, len) in [(3000, 400, 100_000), (20, 60, 70_000), (200_000, 9, 80_000)] {
+            let entries: Vec<(u32, u32, f64)> = (0..len)
+                .map(|_| {
+                    (
+                        rng.random_range(0..m as u32),
+                        rng.random_range(0..n as u32),
+                        weights[rng.random_range(0..weights.len())],
+                    )
+                })
+                .collect();
+            // The rule: cells in row-major order, each the sum of its
+            // triplets in input order, zero sums dropped.
+            let mut order: Vec<usize> = (0..len).collect();
+            order.sort_by_key(|&k| (entries[k].0, entries[k].1, k));
+            let (mut indptr, mut indices, mut values) = (vec![0usize; m + 1], vec![], vec![]);
+            let mut k = 0;
+            while k < len {
+                let (i, j, mut w) = entries[order[k]];
+                k += 1;
+                while k < len && (entries[order[k]].0, entries[order[k]].1) == (i, j) {
+                    w += entries[order[k]].2;
+                    k += 1;
+                }
+                if w != 0.0 {
+                    indices.push(j);
+                    values.push(w.to_bits());
+                    indptr[i as usize + 1] += 1;
+                }
+            }
+            for i in 0..m {
+                indptr[i + 1] += indptr[i];
+            }
+            for threads in 1..=4 {
+                let pool = rayon::ThreadPoolBuilder::new()
+                    .num_threads(threads)
+                    .build()
+                    .unwrap();
+                let csr = pool.install(|| Csr::from_triplets(m, n, entries.clone()));
+                assert_eq!(csr.indptr(), &indptr[..], "{m} x {n}, {threads} threads");
+                assert_eq!(csr.indices(), &indices[..], "{m} x {n}, {threads} threads");
+                let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
+                assert_eq!(bits, values, "{m} x {n}, {threads} threads");
+            }
         }
     }
 
