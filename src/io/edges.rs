@@ -363,12 +363,132 @@ struct EdgeLines {
     candidate: Option<(usize, [String; 2])>,
 }
 
+/// Smallest text (bytes) whose later part [`edge_lines`] reads ahead on a
+/// second thread.
+const READ_AHEAD_MIN: usize = 1 << 20;
+
+/// Edge lines read ahead from a place in the text (see [`read_ahead`]).
+struct ReadAhead<'a> {
+    /// Where the reading started (the start of a line).
+    from: usize,
+    /// Where it stopped: the end of the text or the start of the first line
+    /// it did not take.
+    to: usize,
+    /// Line breaks between `from` and `to`.
+    breaks: usize,
+    /// Row label, column label, weight and the labels' [`label_hash`]es.
+    lines: Vec<(&'a str, &'a str, f64, u64, u64)>,
+}
+
+/// Reads the common edge lines (see [`quick_edge`]) of `text` from `from`,
+/// the start of a line, with their weights when plain decimals (or absent)
+/// and their labels' hashes, up to the end of the text or the first line
+/// that is not such a line. Nothing here can fail: the first other line,
+/// whatever it holds, is left to the caller's general path.
+fn read_ahead<'a>(text: &'a str, delim: u8, source: &'a Path, from: usize) -> ReadAhead<'a> {
+    let mut fields = Fields::new(text, delim, source);
+    fields.pos = from;
+    fields.line = 0;
+    let mut lines = Vec::with_capacity(count_byte(&text.as_bytes()[from..], b'\n') + 1);
+    loop {
+        let (pos, line) = (fields.pos, fields.line);
+        let Some((_, r, c, w)) = quick_edge(&mut fields) else {
+            break;
+        };
+        let weight = if w.is_empty() {
+            Some(1.0)
+        } else {
+            plain_decimal(w.as_bytes())
+        };
+        let Some(weight) = weight else {
+            (fields.pos, fields.line) = (pos, line);
+            break;
+        };
+        lines.push((
+            r,
+            c,
+            weight,
+            label_hash(r.as_bytes()),
+            label_hash(c.as_bytes()),
+        ));
+    }
+    ReadAhead {
+        from,
+        to: fields.pos,
+        breaks: fields.line,
+        lines,
+    }
+}
+
+/// Interns lines read ahead, in order, prefetching each batch's slots
+/// first (as [`resolve_batch`] does).
+fn resolve_read_ahead(
+    lines: &[(&str, &str, f64, u64, u64)],
+    chunk: &mut EdgeLines,
+    source: &Path,
+) -> Result<()> {
+    for batch in lines.chunks(LOOKUP_BATCH) {
+        let mut touched = 0u32;
+        for &(_, _, _, hr, hc) in batch {
+            touched ^= chunk.rows.peek(hr) ^ chunk.cols.peek(hc);
+        }
+        std::hint::black_box(touched);
+        for &(r, c, w, hr, hc) in batch {
+            add_line(chunk, (r, hr), (c, hc), w, source)?;
+        }
+    }
+    Ok(())
+}
+
 /// Parses the edge lines that `fields` yields; `header` says how to treat
 /// the first non-blank line.
+///
+/// On a large text with a second thread to spare (see
+/// [`READ_AHEAD_MIN`]; `;` files, which track decimal marks, excepted),
+/// a second thread reads the common lines of the text's second part ahead
+/// ([`read_ahead`], from the first line start past 45 % of the text) while
+/// this one reads the first part; arriving exactly at that line start it
+/// interns the lines read ahead, in order, and goes on from where the
+/// second thread stopped. Labels, entries, notes and errors are the same
+/// as when reading alone, which happens whenever this thread does not
+/// arrive at that line start between records (a quoted field spanning it,
+/// blank lines skipped over it, or a first line not yet read).
 fn edge_lines<'a>(
     fields: &mut Fields<'a>,
     header: EdgeHeader,
     report: &mut ReadReport,
+) -> Result<EdgeLines> {
+    let text = fields.text;
+    let split =
+        (text.len() >= READ_AHEAD_MIN && fields.delim != b';' && rayon::current_num_threads() > 1)
+            .then(|| {
+                let at = text.len() / 20 * 9;
+                memchr_newline(&text.as_bytes()[at..]).map(|k| at + k + 1)
+            })
+            .flatten()
+            .filter(|&at| at < text.len());
+    let Some(split) = split else {
+        return edge_lines_from(fields, header, report, None);
+    };
+    let (delim, source) = (fields.delim, fields.source);
+    std::thread::scope(|scope| {
+        let ahead = scope.spawn(move || read_ahead(text, delim, source, split));
+        edge_lines_from(fields, header, report, Some((split, ahead)))
+    })
+}
+
+/// The first `\n` in `b`.
+fn memchr_newline(b: &[u8]) -> Option<usize> {
+    b.iter().position(|&x| x == b'\n')
+}
+
+/// [`edge_lines`], taking the lines read ahead from `ahead.0` when this
+/// thread arrives there.
+fn edge_lines_from<'a, 's>(
+    fields: &mut Fields<'a>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+    mut ahead: Option<(usize, std::thread::ScopedJoinHandle<'s, ReadAhead<'a>>)>,
 ) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
@@ -383,6 +503,21 @@ fn edge_lines<'a>(
     };
     let mut first = true;
     loop {
+        if !first && ahead.as_ref().is_some_and(|a| a.0 == fields.pos) {
+            if let Some((_, handle)) = ahead.take() {
+                let read = handle.join().map_err(|_| {
+                    Error::InvalidArgument(format!(
+                        "{}: the thread reading ahead failed",
+                        fields.source.display()
+                    ))
+                })?;
+                debug_assert_eq!(read.from, fields.pos);
+                resolve_batch(&mut batch, &mut chunk, fields.source)?;
+                resolve_read_ahead(&read.lines, &mut chunk, fields.source)?;
+                fields.pos = read.to;
+                fields.line += read.breaks;
+            }
+        }
         if !first {
             if let Some((line, r, c, w)) = quick_edge(fields) {
                 // A plain decimal is what `Fields::value` would return for
@@ -516,8 +651,9 @@ pub(super) fn parse_edges(
             ),
         });
     }
-    let mut rows = chunk.rows.into_strings();
-    let mut cols = chunk.cols.into_strings();
+    // Each side's labels become strings on its own thread when there are two.
+    let (rows, cols) = (chunk.rows, chunk.cols);
+    let (mut rows, mut cols) = rayon::join(|| rows.into_strings(), || cols.into_strings());
     if let Some((line, words)) = chunk.candidate.take() {
         if judge_first_line(
             fields,
