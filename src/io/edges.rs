@@ -2,6 +2,7 @@
 //! first appearance, and the header rule of [`EdgeHeader::Auto`].
 
 use super::*;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
 /// (24 bits of its hash and its length, capped at 255) and its index + 1
@@ -382,15 +383,25 @@ struct ReadAhead<'a> {
 
 /// Reads the common edge lines (see [`quick_edge`]) of `text` from `from`,
 /// the start of a line, with their weights when plain decimals (or absent)
-/// and their labels' hashes, up to the end of the text or the first line
-/// that is not such a line. Nothing here can fail: the first other line,
-/// whatever it holds, is left to the caller's general path.
-fn read_ahead<'a>(text: &'a str, delim: u8, source: &'a Path, from: usize) -> ReadAhead<'a> {
+/// and their labels' hashes, up to the end of the text, the first line
+/// that is not such a line, or (checked every [`LOOKUP_BATCH`] lines)
+/// `stop`. Nothing here can fail: the first line not taken, whatever it
+/// holds, is left to the caller's general path.
+fn read_ahead<'a>(
+    text: &'a str,
+    delim: u8,
+    source: &'a Path,
+    from: usize,
+    stop: &AtomicBool,
+) -> ReadAhead<'a> {
     let mut fields = Fields::new(text, delim, source);
     fields.pos = from;
     fields.line = 0;
     let mut lines = Vec::with_capacity(count_byte(&text.as_bytes()[from..], b'\n') + 1);
     loop {
+        if lines.len() % LOOKUP_BATCH == 0 && stop.load(Ordering::Relaxed) {
+            break;
+        }
         let (pos, line) = (fields.pos, fields.line);
         let Some((_, r, c, w)) = quick_edge(&mut fields) else {
             break;
@@ -448,8 +459,9 @@ fn resolve_read_ahead(
 /// a second thread reads the common lines of the text's second part ahead
 /// ([`read_ahead`], from the first line start past 45 % of the text) while
 /// this one reads the first part; arriving exactly at that line start it
-/// interns the lines read ahead, in order, and goes on from where the
-/// second thread stopped. Labels, entries, notes and errors are the same
+/// stops the second thread (so that it never waits for one that a busy
+/// machine holds back), interns the lines read ahead, in order, and goes on
+/// from where the second thread stopped. Labels, entries, notes and errors are the same
 /// as when reading alone, which happens whenever this thread does not
 /// arrive at that line start between records (a quoted field spanning it,
 /// blank lines skipped over it, or a first line not yet read).
@@ -471,9 +483,13 @@ fn edge_lines<'a>(
         return edge_lines_from(fields, header, report, None);
     };
     let (delim, source) = (fields.delim, fields.source);
+    let stop = AtomicBool::new(false);
+    let stop = &stop;
     std::thread::scope(|scope| {
-        let ahead = scope.spawn(move || read_ahead(text, delim, source, split));
-        edge_lines_from(fields, header, report, Some((split, ahead)))
+        let ahead = scope.spawn(move || read_ahead(text, delim, source, split, stop));
+        let read = edge_lines_from(fields, header, report, Some((split, ahead, stop)));
+        stop.store(true, Ordering::Relaxed);
+        read
     })
 }
 
@@ -488,7 +504,11 @@ fn edge_lines_from<'a, 's>(
     fields: &mut Fields<'a>,
     header: EdgeHeader,
     report: &mut ReadReport,
-    mut ahead: Option<(usize, std::thread::ScopedJoinHandle<'s, ReadAhead<'a>>)>,
+    mut ahead: Option<(
+        usize,
+        std::thread::ScopedJoinHandle<'s, ReadAhead<'a>>,
+        &AtomicBool,
+    )>,
 ) -> Result<EdgeLines> {
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
@@ -504,7 +524,8 @@ fn edge_lines_from<'a, 's>(
     let mut first = true;
     loop {
         if !first && ahead.as_ref().is_some_and(|a| a.0 == fields.pos) {
-            if let Some((_, handle)) = ahead.take() {
+            if let Some((_, handle, stop)) = ahead.take() {
+                stop.store(true, Ordering::Relaxed);
                 let read = handle.join().map_err(|_| {
                     Error::InvalidArgument(format!(
                         "{}: the thread reading ahead failed",
