@@ -2,7 +2,7 @@
 //! first appearance, and the header rule of [`EdgeHeader::Auto`].
 
 use super::*;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::mpsc::{sync_channel, Receiver, SyncSender};
 
 /// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
 /// (24 bits of its hash and its length, capped at 255) and its index + 1
@@ -364,80 +364,97 @@ struct EdgeLines {
     candidate: Option<(usize, [String; 2])>,
 }
 
-/// Smallest text (bytes) whose later part [`edge_lines`] reads ahead on a
+/// Smallest rest of a text (bytes) that [`edge_lines`] reads with a
 /// second thread.
-const READ_AHEAD_MIN: usize = 1 << 20;
+const PIPELINE_MIN: usize = 1 << 20;
 
-/// Edge lines read ahead from a place in the text (see [`read_ahead`]).
-struct ReadAhead<'a> {
-    /// Where the reading started (the start of a line).
-    from: usize,
-    /// Where it stopped: the end of the text or the start of the first line
-    /// it did not take.
-    to: usize,
-    /// Line breaks between `from` and `to`.
-    breaks: usize,
-    /// Row label, column label, weight and the labels' [`label_hash`]es.
-    lines: Vec<(&'a str, &'a str, f64, u64, u64)>,
+/// Lines in one message of the pipeline (see [`scan_lines`]).
+const PIPELINE_CHUNK: usize = 4096;
+
+/// Messages the pipeline holds at most, so that its memory is bounded
+/// (a few MB) whatever the file's size.
+const PIPELINE_DEPTH: usize = 4;
+
+/// Pipelines started in one file at most (each ends at a line that is not
+/// of the common form; a file full of such lines is read by one thread).
+const PIPELINE_STARTS: usize = 64;
+
+/// A common edge line scanned ahead: row label, column label, weight and
+/// the labels' [`label_hash`]es.
+type Scanned<'a> = (&'a str, &'a str, f64, u64, u64);
+
+/// What the scanning thread sends: lines, or where it stopped (the end of
+/// the text or the start of the first line it did not take) with the line
+/// breaks it passed.
+enum Scan<'a> {
+    Lines(Vec<Scanned<'a>>),
+    End { to: usize, breaks: usize },
 }
 
-/// Reads the common edge lines (see [`quick_edge`]) of `text` from `from`,
-/// the start of a line, with their weights when plain decimals (or absent)
-/// and their labels' hashes, up to the end of the text, the first line
-/// that is not such a line, or (checked every [`LOOKUP_BATCH`] lines)
-/// `stop`. Nothing here can fail: the first line not taken, whatever it
-/// holds, is left to the caller's general path.
-fn read_ahead<'a>(
+/// The scanning end of the pipeline: reads the common edge lines (see
+/// [`quick_edge`]) of `text` from `from`, the start of a line, with their
+/// weights when plain decimals (or absent) and their labels' hashes, and
+/// sends them in chunks of [`PIPELINE_CHUNK`], up to the end of the text
+/// or the first line that is not such a line; then where it stopped.
+/// Nothing here can fail: the first line not taken, whatever it holds, is
+/// left to the reader's general path. Chunk buffers come back on `free`.
+/// Stops early when the reader hangs up.
+fn scan_lines<'a>(
     text: &'a str,
     delim: u8,
     source: &'a Path,
     from: usize,
-    stop: &AtomicBool,
-) -> ReadAhead<'a> {
+    out: SyncSender<Scan<'a>>,
+    free: Receiver<Vec<Scanned<'a>>>,
+) {
     let mut fields = Fields::new(text, delim, source);
     fields.pos = from;
     fields.line = 0;
-    let mut lines = Vec::with_capacity(count_byte(&text.as_bytes()[from..], b'\n') + 1);
     loop {
-        if lines.len() % LOOKUP_BATCH == 0 && stop.load(Ordering::Relaxed) {
-            break;
+        let mut lines = free
+            .try_recv()
+            .unwrap_or_else(|_| Vec::with_capacity(PIPELINE_CHUNK));
+        let mut done = false;
+        while lines.len() < PIPELINE_CHUNK {
+            let (pos, line) = (fields.pos, fields.line);
+            let Some((_, r, c, w)) = quick_edge(&mut fields) else {
+                done = true;
+                break;
+            };
+            let weight = if w.is_empty() {
+                Some(1.0)
+            } else {
+                plain_decimal(w.as_bytes())
+            };
+            let Some(weight) = weight else {
+                (fields.pos, fields.line) = (pos, line);
+                done = true;
+                break;
+            };
+            lines.push((
+                r,
+                c,
+                weight,
+                label_hash(r.as_bytes()),
+                label_hash(c.as_bytes()),
+            ));
         }
-        let (pos, line) = (fields.pos, fields.line);
-        let Some((_, r, c, w)) = quick_edge(&mut fields) else {
-            break;
-        };
-        let weight = if w.is_empty() {
-            Some(1.0)
-        } else {
-            plain_decimal(w.as_bytes())
-        };
-        let Some(weight) = weight else {
-            (fields.pos, fields.line) = (pos, line);
-            break;
-        };
-        lines.push((
-            r,
-            c,
-            weight,
-            label_hash(r.as_bytes()),
-            label_hash(c.as_bytes()),
-        ));
-    }
-    ReadAhead {
-        from,
-        to: fields.pos,
-        breaks: fields.line,
-        lines,
+        if !lines.is_empty() && out.send(Scan::Lines(lines)).is_err() {
+            return;
+        }
+        if done {
+            let _ = out.send(Scan::End {
+                to: fields.pos,
+                breaks: fields.line,
+            });
+            return;
+        }
     }
 }
 
-/// Interns lines read ahead, in order, prefetching each batch's slots
+/// Interns lines scanned ahead, in order, prefetching each batch's slots
 /// first (as [`resolve_batch`] does).
-fn resolve_read_ahead(
-    lines: &[(&str, &str, f64, u64, u64)],
-    chunk: &mut EdgeLines,
-    source: &Path,
-) -> Result<()> {
+fn resolve_scanned(lines: &[Scanned<'_>], chunk: &mut EdgeLines, source: &Path) -> Result<()> {
     for batch in lines.chunks(LOOKUP_BATCH) {
         let mut touched = 0u32;
         for &(_, _, _, hr, hc) in batch {
@@ -454,62 +471,77 @@ fn resolve_read_ahead(
 /// Parses the edge lines that `fields` yields; `header` says how to treat
 /// the first non-blank line.
 ///
-/// On a large text with a second thread to spare (see
-/// [`READ_AHEAD_MIN`]; `;` files, which track decimal marks, excepted),
-/// a second thread reads the common lines of the text's second part ahead
-/// ([`read_ahead`], from the first line start past 45 % of the text) while
-/// this one reads the first part; arriving exactly at that line start it
-/// stops the second thread (so that it never waits for one that a busy
-/// machine holds back), interns the lines read ahead, in order, and goes on
-/// from where the second thread stopped. Labels, entries, notes and errors are the same
-/// as when reading alone, which happens whenever this thread does not
-/// arrive at that line start between records (a quoted field spanning it,
-/// blank lines skipped over it, or a first line not yet read).
+/// With a second thread to spare, a large file (from [`PIPELINE_MIN`]
+/// bytes on; `;` files, which track decimal marks, excepted) is read by a
+/// pipeline: once the first line is read, a second thread scans the
+/// following common lines ([`scan_lines`]: the line scan, the weight and
+/// the labels' hashes) while this one interns them in order as they come.
+/// At the first line of another kind the pipeline ends, this thread reads
+/// that line by the general path and starts a new pipeline after it (at
+/// most [`PIPELINE_STARTS`] times). Labels, entries, notes and errors are
+/// the same as when reading alone; memory grows by a few MB at most.
 fn edge_lines<'a>(
     fields: &mut Fields<'a>,
     header: EdgeHeader,
     report: &mut ReadReport,
 ) -> Result<EdgeLines> {
-    let text = fields.text;
-    let split =
-        (text.len() >= READ_AHEAD_MIN && fields.delim != b';' && rayon::current_num_threads() > 1)
-            .then(|| {
-                let at = text.len() / 20 * 9;
-                memchr_newline(&text.as_bytes()[at..]).map(|k| at + k + 1)
-            })
-            .flatten()
-            .filter(|&at| at < text.len());
-    let Some(split) = split else {
-        return edge_lines_from(fields, header, report, None);
-    };
-    let (delim, source) = (fields.delim, fields.source);
-    let stop = AtomicBool::new(false);
-    let stop = &stop;
-    std::thread::scope(|scope| {
-        let ahead = scope.spawn(move || read_ahead(text, delim, source, split, stop));
-        let read = edge_lines_from(fields, header, report, Some((split, ahead, stop)));
-        stop.store(true, Ordering::Relaxed);
-        read
-    })
+    if fields.text.len() >= PIPELINE_MIN && fields.delim != b';' && rayon::current_num_threads() > 1
+    {
+        std::thread::scope(|scope| edge_lines_with(fields, header, report, Some(scope)))
+    } else {
+        edge_lines_with(fields, header, report, None)
+    }
 }
 
-/// The first `\n` in `b`.
-fn memchr_newline(b: &[u8]) -> Option<usize> {
-    b.iter().position(|&x| x == b'\n')
+/// Runs one pipeline (see [`edge_lines`]) from `fields`' position, a line
+/// start, and moves `fields` to where it stopped.
+fn pipeline<'a, 's>(
+    scope: &'s std::thread::Scope<'s, '_>,
+    fields: &mut Fields<'a>,
+    batch: &mut Vec<(&'a str, &'a str, f64)>,
+    chunk: &mut EdgeLines,
+) -> Result<()>
+where
+    'a: 's,
+{
+    resolve_batch(batch, chunk, fields.source)?;
+    let (text, delim, source, from) = (fields.text, fields.delim, fields.source, fields.pos);
+    let (tx, rx) = sync_channel(PIPELINE_DEPTH);
+    let (give_back, free) = sync_channel(PIPELINE_DEPTH + 2);
+    scope.spawn(move || scan_lines(text, delim, source, from, tx, free));
+    loop {
+        match rx.recv() {
+            Ok(Scan::Lines(lines)) => {
+                resolve_scanned(&lines, chunk, fields.source)?;
+                let mut lines = lines;
+                lines.clear();
+                let _ = give_back.try_send(lines);
+            }
+            Ok(Scan::End { to, breaks }) => {
+                fields.pos = to;
+                fields.line += breaks;
+                return Ok(());
+            }
+            Err(_) => {
+                return Err(Error::InvalidArgument(format!(
+                    "{}: the thread scanning lines ahead stopped",
+                    fields.source.display()
+                )))
+            }
+        }
+    }
 }
 
-/// [`edge_lines`], taking the lines read ahead from `ahead.0` when this
-/// thread arrives there.
-fn edge_lines_from<'a, 's>(
+/// [`edge_lines`], with pipelines started in `scope` when given.
+fn edge_lines_with<'a, 's>(
     fields: &mut Fields<'a>,
     header: EdgeHeader,
     report: &mut ReadReport,
-    mut ahead: Option<(
-        usize,
-        std::thread::ScopedJoinHandle<'s, ReadAhead<'a>>,
-        &AtomicBool,
-    )>,
-) -> Result<EdgeLines> {
+    scope: Option<&'s std::thread::Scope<'s, '_>>,
+) -> Result<EdgeLines>
+where
+    'a: 's,
+{
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
@@ -522,22 +554,23 @@ fn edge_lines_from<'a, 's>(
         candidate: None,
     };
     let mut first = true;
+    let (mut starts, mut piped) = (0, false);
     loop {
-        if !first && ahead.as_ref().is_some_and(|a| a.0 == fields.pos) {
-            if let Some((_, handle, stop)) = ahead.take() {
-                stop.store(true, Ordering::Relaxed);
-                let read = handle.join().map_err(|_| {
-                    Error::InvalidArgument(format!(
-                        "{}: the thread reading ahead failed",
-                        fields.source.display()
-                    ))
-                })?;
-                debug_assert_eq!(read.from, fields.pos);
-                resolve_batch(&mut batch, &mut chunk, fields.source)?;
-                resolve_read_ahead(&read.lines, &mut chunk, fields.source)?;
-                fields.pos = read.to;
-                fields.line += read.breaks;
+        // `fields` is at a line start here; past the first line, the
+        // common lines may go through a pipeline, and after one has ended,
+        // the line it stopped at goes through the paths below first.
+        match scope {
+            Some(scope)
+                if !first
+                    && !piped
+                    && starts < PIPELINE_STARTS
+                    && fields.text.len() - fields.pos >= PIPELINE_MIN =>
+            {
+                starts += 1;
+                piped = true;
+                pipeline(scope, fields, &mut batch, &mut chunk)?;
             }
+            _ => piped = false,
         }
         if !first {
             if let Some((line, r, c, w)) = quick_edge(fields) {
