@@ -68,40 +68,97 @@ impl<T: Weight> Csr<T> {
     /// Cost: `O(m + L + sum over rows of d log d)` time (`d` a row's
     /// triplets), `O(m + L)` memory.
     pub fn from_triplets(nrows: usize, ncols: usize, entries: Vec<(u32, u32, T)>) -> Self {
-        let mut start = vec![0usize; nrows + 1];
-        for &(i, _, _) in &entries {
-            start[i as usize + 1] += 1;
-        }
-        Self::from_counted_triplets(nrows, ncols, entries, start)
+        Self::from_counted_triplets(nrows, ncols, entries, None)
     }
 
-    /// [`from_triplets`](Self::from_triplets) with the triplets of each row
-    /// counted beforehand: `counts[i + 1]` holds the number of triplets of
-    /// row `i` (`counts[0]` is 0, `counts.len()` is `nrows + 1`), so that a
-    /// caller already passing over the triplets saves a pass.
+    /// [`from_triplets`](Self::from_triplets), with the triplets of each row
+    /// counted beforehand when `counts` is given: `counts[i + 1]` holds the
+    /// number of triplets of row `i` (`counts[0]` is 0, `counts.len()` is
+    /// `nrows + 1`), so that a caller already passing over the triplets
+    /// saves a pass when they are ordered on one thread.
+    ///
+    /// With several threads (and at least [`PARALLEL_TRIPLETS`] triplets),
+    /// the triplets are cut into consecutive parts, one per thread; each
+    /// part's rows are counted on its thread, part `t`'s triplets of row
+    /// `i` go after those of parts before `t` (so each row keeps input
+    /// order), each part is scattered on its thread, and rows are then
+    /// sorted and compacted in blocks of about equal size, one per thread.
+    /// Every row is built exactly as on one thread.
     pub(crate) fn from_counted_triplets(
         nrows: usize,
         ncols: usize,
         entries: Vec<(u32, u32, T)>,
-        counts: Vec<usize>,
+        counts: Option<Vec<usize>>,
     ) -> Self {
-        let mut start = counts;
-        debug_assert_eq!(start.len(), nrows + 1);
-        for i in 0..nrows {
-            start[i + 1] += start[i];
-        }
-        debug_assert_eq!(start[nrows], entries.len());
-        // Blocks of consecutive rows with about equal numbers of triplets,
-        // one per thread. Each block's task reads all triplets in order and
-        // scatters its own rows' into its own part of the kept arrays, then
-        // sorts and compacts them there, so every row is built exactly as
-        // by one task alone, for any number of blocks.
         let len = entries.len();
-        let parts = if len < PARALLEL_TRIPLETS {
-            1
+        let parts = triplet_parts(len);
+        let mut indices = vec![0u32; len];
+        let mut values: Vec<T> = vec![T::zero(); len];
+        let start = if parts == 1 {
+            let mut start = counts.unwrap_or_else(|| {
+                let mut c = vec![0usize; nrows + 1];
+                for &(i, _, _) in &entries {
+                    c[i as usize + 1] += 1;
+                }
+                c
+            });
+            debug_assert_eq!(start.len(), nrows + 1);
+            for i in 0..nrows {
+                start[i + 1] += start[i];
+            }
+            debug_assert_eq!(start[nrows], len);
+            let mut next = start.clone();
+            const AHEAD: usize = 16;
+            for (k, &(i, j, w)) in entries.iter().enumerate() {
+                if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
+                    let s = next[r as usize];
+                    prefetch_write(indices.as_ptr().wrapping_add(s));
+                    prefetch_write(values.as_ptr().wrapping_add(s));
+                }
+                let slot = &mut next[i as usize];
+                indices[*slot] = j;
+                values[*slot] = w;
+                *slot += 1;
+            }
+            start
         } else {
-            rayon::current_num_threads().clamp(1, 64)
+            let part = len.div_ceil(parts);
+            // Per part and row: the count, then where the part's next
+            // triplet of the row goes (below 2^32: `triplet_parts`).
+            let mut next: Vec<Vec<u32>> = entries
+                .par_chunks(part)
+                .map(|c| {
+                    let mut k = vec![0u32; nrows];
+                    for &(i, _, _) in c {
+                        k[i as usize] += 1;
+                    }
+                    k
+                })
+                .collect();
+            let mut start = vec![0usize; nrows + 1];
+            for i in 0..nrows {
+                let mut at = start[i];
+                for k in next.iter_mut() {
+                    let c = k[i] as usize;
+                    k[i] = at as u32;
+                    at += c;
+                }
+                start[i + 1] = at;
+            }
+            debug_assert_eq!(start[nrows], len);
+            let out = Scatter {
+                indices: indices.as_mut_ptr(),
+                values: values.as_mut_ptr(),
+            };
+            entries
+                .par_chunks(part)
+                .zip(next.par_iter_mut())
+                .for_each(|(c, next)| out.scatter(c, next));
+            start
         };
+        drop(entries);
+        // Sort and compact blocks of consecutive rows with about equal
+        // numbers of cells, one per thread.
         let mut bounds = vec![0usize];
         for p in 1..parts {
             let r = start.partition_point(|&s| s < len * p / parts).min(nrows);
@@ -112,8 +169,6 @@ impl<T: Weight> Csr<T> {
         if nrows > *bounds.last().unwrap_or(&0) {
             bounds.push(nrows);
         }
-        let mut indices = vec![0u32; len];
-        let mut values: Vec<T> = vec![T::zero(); len];
         let mut indptr = vec![0usize; nrows + 1];
         let mut jobs = Vec::with_capacity(bounds.len());
         {
@@ -129,11 +184,15 @@ impl<T: Weight> Csr<T> {
             }
         }
         let start = &start;
-        let entries = &entries;
-        let kept: Vec<usize> = jobs
-            .into_par_iter()
-            .map(|(r0, r1, idx, val, ptr)| row_block(entries, start, (r0, r1), idx, val, ptr))
-            .collect();
+        let kept: Vec<usize> = if jobs.len() == 1 {
+            jobs.into_iter()
+                .map(|(r0, r1, idx, val, ptr)| row_block(start, (r0, r1), idx, val, ptr))
+                .collect()
+        } else {
+            jobs.into_par_iter()
+                .map(|(r0, r1, idx, val, ptr)| row_block(start, (r0, r1), idx, val, ptr))
+                .collect()
+        };
         // Close the gaps left by dropped cells, block by block.
         let mut out = 0;
         for (w, &k) in bounds.windows(2).zip(&kept) {
@@ -303,14 +362,64 @@ impl Csr<f64> {
 /// Fewest triplets that [`Csr::from_counted_triplets`] splits over threads.
 const PARALLEL_TRIPLETS: usize = 1 << 16;
 
-/// One block of rows `r0..r1` of [`Csr::from_counted_triplets`]: scatters
-/// the block's triplets (read in input order) into `idx` and `val` (the
-/// block's part of the kept arrays, `start[r0]..start[r1]`), then sorts each
-/// row by column (stably), sums repeats in input order and drops zero
-/// cells, compacting within the block. Writes each row's end, relative to
-/// the block, into `ptr` and returns the number of cells kept.
+/// Parts [`Csr::from_counted_triplets`] cuts `len` triplets into: one
+/// below [`PARALLEL_TRIPLETS`] or from 2^32 triplets on (positions are kept
+/// in 32 bits), else one per thread, at most 8 (each part holds a count per
+/// row).
+fn triplet_parts(len: usize) -> usize {
+    if len < PARALLEL_TRIPLETS || len > u32::MAX as usize {
+        1
+    } else {
+        rayon::current_num_threads().clamp(1, 8)
+    }
+}
+
+/// The kept arrays of [`Csr::from_counted_triplets`], written by several
+/// threads at once, each at its own positions.
+struct Scatter<T> {
+    indices: *mut u32,
+    values: *mut T,
+}
+
+// SAFETY: the threads write through these pointers at disjoint positions
+// (see `Scatter::scatter`), and nothing reads the arrays until all have
+// finished.
+unsafe impl<T: Send> Send for Scatter<T> {}
+unsafe impl<T: Send> Sync for Scatter<T> {}
+
+impl<T: Copy> Scatter<T> {
+    /// Writes one part's triplets, in order: a triplet of row `i` at
+    /// `next[i]`, which then moves on. The positions of each part and row
+    /// are a range of their own, counted for exactly that part's triplets
+    /// of that row and within the arrays.
+    fn scatter(&self, part: &[(u32, u32, T)], next: &mut [u32]) {
+        const AHEAD: usize = 16;
+        for (k, &(i, j, w)) in part.iter().enumerate() {
+            if let Some(&(r, _, _)) = part.get(k + AHEAD) {
+                let s = next[r as usize] as usize;
+                prefetch_write(self.indices.wrapping_add(s));
+                prefetch_write(self.values.wrapping_add(s));
+            }
+            let slot = &mut next[i as usize];
+            let at = *slot as usize;
+            // SAFETY: `at` lies in this part's range for row `i`, inside
+            // the arrays and written by no other thread (see above).
+            unsafe {
+                *self.indices.add(at) = j;
+                *self.values.add(at) = w;
+            }
+            *slot += 1;
+        }
+    }
+}
+
+/// One block of rows `r0..r1` of [`Csr::from_counted_triplets`], scattered
+/// into `idx` and `val` (the block's part of the kept arrays,
+/// `start[r0]..start[r1]`): sorts each row by column (stably), sums
+/// repeats in input order and drops zero cells, compacting within the
+/// block. Writes each row's end, relative to the block, into `ptr` and
+/// returns the number of cells kept.
 fn row_block<T: Weight>(
-    entries: &[(u32, u32, T)],
     start: &[usize],
     (r0, r1): (usize, usize),
     idx: &mut [u32],
@@ -318,26 +427,6 @@ fn row_block<T: Weight>(
     ptr: &mut [usize],
 ) -> usize {
     let base = start[r0];
-    let mut next: Vec<usize> = start[r0..r1].iter().map(|&s| s - base).collect();
-    let whole = r0 == 0 && r1 == start.len() - 1;
-    const AHEAD: usize = 16;
-    for (k, &(i, j, w)) in entries.iter().enumerate() {
-        if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
-            if let Some(&s) = next.get((r as usize).wrapping_sub(r0)) {
-                prefetch_write(idx.as_ptr().wrapping_add(s));
-                prefetch_write(val.as_ptr().wrapping_add(s));
-            }
-        }
-        let i = i as usize;
-        if !whole && (i < r0 || i >= r1) {
-            continue;
-        }
-        let slot = &mut next[i - r0];
-        idx[*slot] = j;
-        val[*slot] = w;
-        *slot += 1;
-    }
-    drop(next);
     let mut out = 0;
     for (i, end) in (r0..r1).zip(ptr.iter_mut()) {
         let (a, b) = (start[i] - base, start[i + 1] - base);
@@ -548,24 +637,36 @@ impl<T: Weight> Network<T> {
         check_shape(m, n)?;
         debug_assert!(check_labels("row", &row_labels, m).is_ok());
         debug_assert!(check_labels("column", &col_labels, n).is_ok());
-        // The rows' triplets are counted in the checking pass.
-        let mut counts = vec![0usize; m + 1];
-        for &(i, j, w) in &entries {
+        let problem = |&(i, j, w): &(u32, u32, T)| -> Option<Error> {
             if i as usize >= m || j as usize >= n {
-                return Err(Error::InvalidArgument(format!(
+                return Some(Error::InvalidArgument(format!(
                     "cell ({i}, {j}) lies outside the {m} x {n} network"
                 )));
             }
-            counts[i as usize + 1] += 1;
-            if let Some(problem) = weight_problem(w) {
-                return Err(Error::BadWeight {
-                    row: row_labels[i as usize].clone(),
-                    col: col_labels[j as usize].clone(),
-                    value: w.to_string(),
-                    problem,
-                });
+            weight_problem(w).map(|problem| Error::BadWeight {
+                row: row_labels[i as usize].clone(),
+                col: col_labels[j as usize].clone(),
+                value: w.to_string(),
+                problem,
+            })
+        };
+        let counts = if triplet_parts(entries.len()) == 1 {
+            // The rows' triplets are counted in the checking pass.
+            let mut counts = vec![0usize; m + 1];
+            for e in &entries {
+                if let Some(err) = problem(e) {
+                    return Err(err);
+                }
+                counts[e.0 as usize + 1] += 1;
             }
-        }
+            Some(counts)
+        } else {
+            // Checked on all threads; the first bad triplet is reported.
+            if let Some(err) = entries.par_iter().find_map_first(problem) {
+                return Err(err);
+            }
+            None
+        };
         let csr = Csr::from_counted_triplets(m, n, entries, counts);
         let cells_total = (m as u128) * (n as u128);
         let sparse = cells_total > tolerance::SPARSE_MIN_CELLS
@@ -1046,6 +1147,59 @@ mod tests {
                 let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
                 assert_eq!(bits, values, "{m} x {n}, {threads} threads");
             }
+        }
+    }
+
+    /// Large triplet sets are checked on all threads; the error is the
+    /// first bad triplet's, as on one thread.
+    #[test]
+    fn first_bad_triplet_is_reported_for_any_thread_count() {
+        let labels = |p: &str, k: usize| (0..k).map(|i| format!("{p}{i}")).collect::<Vec<_>>();
+        let mut entries: Vec<(u32, u32, f64)> = (0..100_000u32)
+            .map(|k| (k % 300, (k * 7) % 200, 1.0 + (k % 5) as f64))
+            .collect();
+        entries[70_000].2 = f64::NAN;
+        entries[40_000].2 = -2.0;
+        entries[90_000].0 = 300; // outside the 300 rows
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let err = pool
+                .install(|| {
+                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
+                })
+                .unwrap_err();
+            let (i, j) = (40_000 % 300, (40_000 * 7) % 200);
+            assert_eq!(
+                err.to_string(),
+                Error::BadWeight {
+                    row: format!("r{i}"),
+                    col: format!("c{j}"),
+                    value: "-2".into(),
+                    problem: "negative",
+                }
+                .to_string(),
+                "{threads} threads"
+            );
+        }
+        entries[40_000].2 = 1.0;
+        entries[70_000].2 = 1.0;
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let err = pool
+                .install(|| {
+                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
+                })
+                .unwrap_err();
+            assert!(
+                err.to_string().contains("(300, "),
+                "{threads} threads: {err}"
+            );
         }
     }
 
