@@ -642,22 +642,31 @@ pub(crate) fn sorted(v: &dyn NetView, _o: &IndexOptions) -> Result<f64> {
 /// presence region or an absence inside it, get their root solve. Every
 /// value is computed by the same expressions as the table's and summed in
 /// the same order (the skipped cells add `+0`), so the result equals the
-/// table's bit for bit. The table is built (and kept) when the same shape
-/// and `L` come twice in a row, as under a model that keeps `L`.
+/// table's bit for bit.
+///
+/// A table costs about two such sums to build at 300 x 300 (square shapes,
+/// `benches/temperature.rs`, `table_build`), and pays off only if it is
+/// used again before the cache drops it. So it is built (and kept) when
+/// the same shape and `L` came among the last `C` matrices this path saw,
+/// `C` the number of such tables the cache holds (`TABLE_CACHE_CELLS / (m
+/// n)`, at most [`TABLE_CACHE_TABLES`]): always under a model that keeps
+/// `L`, for the recurring values of `L` of a small network under one that
+/// does not, and seldom for a large one, where `L` spreads over more values
+/// than the cache holds.
 pub(crate) fn sorted_of_bits(b: &BitMatrix) -> Result<f64> {
     let key = (b.nrows(), b.ncols(), b.count_ones());
     check_size(key.0, key.1)?;
     let rows = degree_order(&b.row_degrees());
     let cols = degree_order(&b.col_degrees());
-    let (cached, repeated) = TABLES.with(|c| {
+    let (cached, recent) = TABLES.with(|c| {
         let mut c = c.borrow_mut();
-        let repeated = c.last_sorted.replace(key) == Some(key);
-        (c.get(key), repeated)
+        let recent = c.seen_recently(key);
+        (c.get(key), recent)
     });
     if let Some(table) = cached {
         return Ok(table.to_t(table.total(b, &rows, &cols)));
     }
-    if repeated {
+    if recent {
         let table = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
         TABLES.with(|c| c.borrow_mut().keep(&table));
         return Ok(table.to_t(table.total(b, &rows, &cols)));
@@ -765,8 +774,9 @@ struct TableCache {
     cells: usize,
     /// Counts lookups and insertions (the recency order).
     tick: u64,
-    /// Shape and `L` of the last matrix [`sorted_of_bits`] saw.
-    last_sorted: Option<TableKey>,
+    /// Shape and `L` of the last matrices [`sorted_of_bits`] saw, the
+    /// latest first (at most [`TABLE_CACHE_TABLES`]).
+    recent: std::collections::VecDeque<TableKey>,
 }
 
 impl TableCache {
@@ -775,8 +785,20 @@ impl TableCache {
             tables: Vec::new(),
             cells: 0,
             tick: 0,
-            last_sorted: None,
+            recent: std::collections::VecDeque::new(),
         }
+    }
+
+    /// True when `key` is among the last `C` keys recorded here, `C` the
+    /// number of tables of its size the cache holds; then records it.
+    fn seen_recently(&mut self, key: TableKey) -> bool {
+        let holds = (TABLE_CACHE_CELLS / (key.0 * key.1)).min(TABLE_CACHE_TABLES);
+        let seen = self.recent.iter().take(holds).any(|&k| k == key);
+        if self.recent.len() == TABLE_CACHE_TABLES {
+            self.recent.pop_back();
+        }
+        self.recent.push_front(key);
+        seen
     }
 
     fn charge(t: &UnexpectednessTable) -> usize {
@@ -796,12 +818,14 @@ impl TableCache {
             })
     }
 
-    /// Keeps `table` (not already kept), dropping the least recently used
-    /// tables as needed to stay within the budget; a table above the whole
-    /// budget is not kept.
+    /// Keeps `table`, dropping the least recently used tables as needed to
+    /// stay within the budget; a table above the whole budget is not kept,
+    /// and one whose key is kept already (built meanwhile by a job that
+    /// rayon ran on this thread during the build) is not kept twice.
     fn keep(&mut self, table: &std::sync::Arc<UnexpectednessTable>) {
         let charge = Self::charge(table);
-        if charge > TABLE_CACHE_CELLS {
+        let key = (table.m, table.n, table.links);
+        if charge > TABLE_CACHE_CELLS || self.get(key).is_some() {
             return;
         }
         while self.cells + charge > TABLE_CACHE_CELLS || self.tables.len() >= TABLE_CACHE_TABLES {

@@ -863,3 +863,36 @@ fn table_cache_stays_within_its_budget() {
     assert_eq!(cache.tables.len(), before);
     assert!(cache.get((1025, 1024, 7)).is_none());
 }
+
+/// The sorted path's rule for building a table: a key counts as recent
+/// when it is among the last `C` keys, `C` the number of tables of its size
+/// the cache holds (11 of 300 x 300, none above the budget); the record
+/// of keys stays within `TABLE_CACHE_TABLES`; a key kept already is not
+/// kept twice.
+#[test]
+fn sorted_path_builds_for_recent_keys_only() {
+    let mut cache = TableCache::new();
+    assert!(!cache.seen_recently((300, 300, 5)));
+    for l in 0..10 {
+        assert!(!cache.seen_recently((300, 300, 100 + l)));
+    }
+    assert!(cache.seen_recently((300, 300, 5)), "10 keys back");
+    for l in 0..11 {
+        assert!(!cache.seen_recently((300, 300, 200 + l)));
+    }
+    assert!(!cache.seen_recently((300, 300, 5)), "11 keys back");
+    assert!(!cache.seen_recently((1025, 1024, 7)));
+    assert!(!cache.seen_recently((1025, 1024, 7)), "above the budget");
+    assert!(!cache.seen_recently((4, 4, 7)));
+    assert!(cache.seen_recently((4, 4, 7)), "twice in a row");
+    for l in 0..1000 {
+        cache.seen_recently((2, 2, l % 300));
+        assert!(cache.recent.len() <= TABLE_CACHE_TABLES);
+    }
+    assert!(cache.seen_recently((2, 2, 299)));
+    let t = std::sync::Arc::new(UnexpectednessTable::new(5, 6, 11).unwrap());
+    cache.keep(&t);
+    cache.keep(&t);
+    assert_eq!(cache.tables.len(), 1);
+    assert_eq!(cache.cells, 30);
+}
