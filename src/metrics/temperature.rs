@@ -582,9 +582,11 @@ fn check_size(m: usize, n: usize) -> Result<()> {
 /// (see the [module documentation](self) for the geometry). Fill 0 or 1
 /// gives `T = 0`. The packed search is described at [`TemperatureOptions`].
 ///
-/// Cost: `O(m n)` root solves for the table (parallel over rows), `O(m n)`
-/// per order evaluated, plus the packing; memory `16 m n` bytes. Networks
-/// above [`TEMPERATURE_CELL_LIMIT`] cells give [`Error::TooLarge`].
+/// Cost: `O(m n)` root solves for the table (parallel over rows; half as
+/// many for a square shape), `O(m n)` per order evaluated, plus the
+/// packing; memory `16 m n` bytes, and each thread keeps recent tables for
+/// reuse within 16 MiB ([`TABLE_CACHE_CELLS`]). Networks above
+/// [`TEMPERATURE_CELL_LIMIT`] cells give [`Error::TooLarge`].
 ///
 /// References: Atmar & Patterson (1993), Oecologia 96:373-382;
 /// Rodriguez-Girones & Santamaria (2006), J. Biogeogr. 33:924-935.
