@@ -12,6 +12,14 @@
 //! `packing_few_members/{1x100000,5x1000}` time the exact packing of a
 //! table whose smaller side has 1 or 5 members (5 x 5,000 with
 //! `NIDUS_BENCH_LARGE`), at fill 0.3.
+//!
+//! `table_build/{mirrored,cell_by_cell}/{300x300,300x299}` time the table
+//! of cell values at fill 0.2: the build (powers per row and column, a
+//! square shape solved on one triangle and mirrored) and the cell-by-cell
+//! build it replaced (same values bit for bit, asserted), side by side;
+//! `table_build/unexpected_only/{300x300,300x299}` times the sorted value's
+//! sum without a table (root solves for the unexpected cells only), the
+//! alternative to a build when `L` is new.
 #![allow(missing_docs)] // criterion's macros generate undocumented functions
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
@@ -20,7 +28,8 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 
 use nidus::metrics::temperature::{
     packed_few_members, temperature, temperature_with_table, temperature_with_table_blocked,
-    temperature_with_table_direct_gathers, TemperatureOptions, UnexpectednessTable,
+    temperature_with_table_direct_gathers, unexpected_total, TemperatureOptions,
+    UnexpectednessTable,
 };
 use nidus::BitMatrix;
 
@@ -114,5 +123,36 @@ fn few_members(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, bench, few_members);
+fn table_build(c: &mut Criterion) {
+    let mut group = c.benchmark_group("table_build");
+    group.sample_size(10);
+    for (m, n) in [(300usize, 300usize), (300, 299)] {
+        let b = random_bits(m, n, 0.2, 45);
+        let links = b.count_ones();
+        let id = format!("{m}x{n}");
+        let new = UnexpectednessTable::new(m, n, links).unwrap();
+        let old = UnexpectednessTable::new_cell_by_cell(m, n, links).unwrap();
+        let (rows, cols): (Vec<usize>, Vec<usize>) = ((0..m).collect(), (0..n).collect());
+        assert_eq!(
+            new.total(&b, &rows, &cols).to_bits(),
+            old.total(&b, &rows, &cols).to_bits(),
+            "the builds give the same table"
+        );
+        group.throughput(Throughput::Elements((m * n) as u64));
+        group.bench_function(BenchmarkId::new("mirrored", &id), |bch| {
+            bch.iter(|| UnexpectednessTable::new(m, n, links).unwrap())
+        });
+        group.bench_function(BenchmarkId::new("cell_by_cell", &id), |bch| {
+            bch.iter(|| UnexpectednessTable::new_cell_by_cell(m, n, links).unwrap())
+        });
+        let row_order = nidus::metrics::degree_order(&b.row_degrees());
+        let col_order = nidus::metrics::degree_order(&b.col_degrees());
+        group.bench_function(BenchmarkId::new("unexpected_only", &id), |bch| {
+            bch.iter(|| unexpected_total(&b, &row_order, &col_order))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench, few_members, table_build);
 criterion_main!(benches);

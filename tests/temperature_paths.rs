@@ -10,8 +10,8 @@
 use nidus::index::IndexKind;
 use nidus::metrics::registry::{lookup, IndexOptions};
 use nidus::metrics::temperature::{
-    few_members_applies, packed_few_members, packing_is_exact, temperature, unexpected_total,
-    TemperatureOptions, UnexpectednessTable, PACKING_SIDE_LIMIT,
+    few_members_applies, packed_few_members, packing_is_exact, temperature, temperature_with_table,
+    unexpected_total, TemperatureOptions, UnexpectednessTable, PACKING_SIDE_LIMIT,
 };
 use nidus::null::{draw_rng, run_null, NullConfig, NullModel, NullOptions, NullSampler};
 use nidus::{BitMatrix, Network, Statistic};
@@ -102,6 +102,58 @@ fn null_runs_with_changing_links_equal_the_table() {
                 assert!(links.len() > 5, "the number of ones varies");
             } else {
                 assert_eq!(links.len(), 1, "equiprobable keeps the number of ones");
+            }
+        }
+    }
+}
+
+/// Null runs whose number of ones changes from draw to draw (`proportional`,
+/// and the binary view of `fixed-totals` draws), on networks small enough
+/// that values of `L` recur (so the per-thread table cache serves), square
+/// (mirrored table build) and not: the packed and the sorted temperature of
+/// every draw, on one thread and two, equal bit for bit the values computed
+/// afresh with the cell-by-cell table (the build before the cache and the
+/// mirrored build) for the regenerated draw.
+#[test]
+fn null_runs_with_cached_tables_equal_the_uncached_path() {
+    let kinds = vec![
+        IndexKind::named("temperature").unwrap(),
+        IndexKind::named("temperature-sorted").unwrap(),
+    ];
+    for (seed, m, n) in [(6u64, 12usize, 12usize), (7, 9, 14)] {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+        let w = ndarray::Array2::from_shape_fn((m, n), |_| {
+            if rng.random_bool(0.35) {
+                rng.random_range(1..4u8)
+            } else {
+                0
+            }
+        });
+        let net = Network::from_array(w).unwrap();
+        for model in [NullModel::Proportional, NullModel::FixedTotals] {
+            let sampler = NullSampler::new(&net, model, &NullOptions::default()).unwrap();
+            for threads in [1, 2] {
+                let mut config = NullConfig::new(model, kinds.clone(), 80, 30 + seed);
+                config.threads = Some(threads);
+                config.restarts = 1;
+                let run = run_null(&net, &config).unwrap();
+                let opts = TemperatureOptions::default().with_restarts(1);
+                let mut links = Vec::new();
+                for (&k, v) in run.draw_ids.iter().zip(&run.values) {
+                    let draw = sampler.sample(&mut draw_rng(30 + seed, k));
+                    let b = nidus::storage::NetView::bits(&draw).unwrap();
+                    let table =
+                        UnexpectednessTable::new_cell_by_cell(m, n, b.count_ones()).unwrap();
+                    let t = temperature_with_table(&b, &table, &opts).unwrap();
+                    let packed = t.packed.unwrap_or(t.sorted);
+                    assert_eq!(v[0].to_bits(), packed.to_bits(), "{model} draw {k}");
+                    assert_eq!(v[1].to_bits(), t.sorted.to_bits(), "{model} draw {k}");
+                    links.push(b.count_ones());
+                }
+                links.sort_unstable();
+                let distinct = links.windows(2).filter(|w| w[0] != w[1]).count() + 1;
+                assert!(distinct > 5, "{model}: the number of ones varies");
+                assert!(distinct < links.len() / 2, "{model}: values of L recur");
             }
         }
     }

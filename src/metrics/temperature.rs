@@ -348,9 +348,11 @@ fn crossing(a: f64, b: f64, p: f64) -> f64 {
 /// The unexpectedness every cell of an `m x n` matrix with `L` ones would
 /// get, for a presence and for an absence, at every position: the table
 /// behind [`temperature`]. Reusable for all matrices of the same shape and
-/// number of ones (null models that keep `L` build it once).
+/// number of ones (each thread keeps recent tables, see
+/// [`TABLE_CACHE_CELLS`]).
 ///
-/// Cost: `O(m n)` root solves and `16 m n` bytes.
+/// Cost: `O(m n)` root solves (about half of them for a square shape,
+/// whose table is symmetric) and `16 m n` bytes.
 #[derive(Clone, Debug)]
 pub struct UnexpectednessTable {
     m: usize,
@@ -363,23 +365,95 @@ pub struct UnexpectednessTable {
     absent: Vec<f64>,
 }
 
+/// Per row or column position `k` of `len`: the centre coordinate
+/// `(k + 1/2)/len`, its complement `1 - x` and that to the power `p`, by
+/// the expressions every table build and [`unexpected_total`] use.
+fn centres(len: usize, p: f64) -> Vec<(f64, f64, f64)> {
+    (0..len)
+        .map(|k| {
+            let x = (k as f64 + 0.5) / len as f64;
+            let a = 1.0 - x;
+            (x, a, a.powf(p))
+        })
+        .collect()
+}
+
+/// The value of one cell of the table: `Some((u, absent))` with `absent`
+/// true when `u` is the value of an absence (the cell lies inside the
+/// presence region), `None` on the isocline (both values 0). `(x, a, ap)`
+/// is the column's entry of [`centres`], `(y, b, bp)` the row's.
+#[inline]
+fn cell_value(col: (f64, f64, f64), row: (f64, f64, f64), p: f64) -> Option<(f64, bool)> {
+    let ((x, a, ap), (y, b, bp)) = (col, row);
+    let level = ap + bp;
+    if level == 1.0 {
+        return None; // on the isocline: nothing is unexpected
+    }
+    let r = crossing(a, b, p) / (1.0 - (x - y).abs());
+    Some((r * r, level > 1.0))
+}
+
 impl UnexpectednessTable {
     /// Builds the table for `m x n` matrices with `links` ones.
+    ///
+    /// The powers `(1-x)^p` and `(1-y)^p` are computed once per column and
+    /// row. A square shape (`m == n`) gives positions `(i, j)` and `(j, i)`
+    /// the same two coordinates swapped, computed by the same expression,
+    /// and every step of a cell's value is symmetric in them bit for bit
+    /// (`max`, `min`, sums of two terms and `|x - y|`), so only the cells
+    /// with `j >= i` are solved and the rest copied. The values equal
+    /// [`UnexpectednessTable::new_cell_by_cell`]'s bit for bit (tests).
     ///
     /// Errors: an empty shape ([`Error::EmptyNetwork`]), more than
     /// [`TEMPERATURE_CELL_LIMIT`] cells ([`Error::TooLarge`]), `links > m n`.
     pub fn new(m: usize, n: usize, links: usize) -> Result<Self> {
-        check_size(m, n)?;
-        if links > m * n {
-            return Err(Error::InvalidArgument(format!(
-                "{links} ones do not fit in a {m} x {n} matrix"
-            )));
+        let (p, mut present, mut absent) = Self::empty(m, n, links)?;
+        if links > 0 && links < m * n {
+            let cols = centres(n, p);
+            let rows = if m == n { cols.clone() } else { centres(m, p) };
+            let square = m == n;
+            present
+                .par_chunks_mut(n)
+                .zip(absent.par_chunks_mut(n))
+                .enumerate()
+                .for_each(|(i, (pres, abs))| {
+                    let first = if square { i } else { 0 };
+                    for j in first..n {
+                        if let Some((u, inside)) = cell_value(cols[j], rows[i], p) {
+                            if inside {
+                                abs[j] = u;
+                            } else {
+                                pres[j] = u;
+                            }
+                        }
+                    }
+                });
+            if square {
+                for i in 1..n {
+                    for j in 0..i {
+                        present[i * n + j] = present[j * n + i];
+                        absent[i * n + j] = absent[j * n + i];
+                    }
+                }
+            }
         }
-        let cells = m * n;
-        let p = isocline_p(links as f64 / cells as f64);
-        let mut present = vec![0.0; cells];
-        let mut absent = vec![0.0; cells];
-        if links > 0 && links < cells {
+        Ok(UnexpectednessTable {
+            m,
+            n,
+            links,
+            p,
+            present,
+            absent,
+        })
+    }
+
+    /// [`UnexpectednessTable::new`] as it was built before: every cell
+    /// solved, with both powers computed per cell. The same values bit for
+    /// bit; kept for the tests and side-by-side timing, not part of the API.
+    #[doc(hidden)]
+    pub fn new_cell_by_cell(m: usize, n: usize, links: usize) -> Result<Self> {
+        let (p, mut present, mut absent) = Self::empty(m, n, links)?;
+        if links > 0 && links < m * n {
             present
                 .par_chunks_mut(n)
                 .zip(absent.par_chunks_mut(n))
@@ -410,6 +484,19 @@ impl UnexpectednessTable {
             present,
             absent,
         })
+    }
+
+    /// Checks the arguments of a build; returns `p` and two zeroed tables.
+    fn empty(m: usize, n: usize, links: usize) -> Result<(f64, Vec<f64>, Vec<f64>)> {
+        check_size(m, n)?;
+        if links > m * n {
+            return Err(Error::InvalidArgument(format!(
+                "{links} ones do not fit in a {m} x {n} matrix"
+            )));
+        }
+        let cells = m * n;
+        let p = isocline_p(links as f64 / cells as f64);
+        Ok((p, vec![0.0; cells], vec![0.0; cells]))
     }
 
     /// Rows `m`.
@@ -495,9 +582,11 @@ fn check_size(m: usize, n: usize) -> Result<()> {
 /// (see the [module documentation](self) for the geometry). Fill 0 or 1
 /// gives `T = 0`. The packed search is described at [`TemperatureOptions`].
 ///
-/// Cost: `O(m n)` root solves for the table (parallel over rows), `O(m n)`
-/// per order evaluated, plus the packing; memory `16 m n` bytes. Networks
-/// above [`TEMPERATURE_CELL_LIMIT`] cells give [`Error::TooLarge`].
+/// Cost: `O(m n)` root solves for the table (parallel over rows; half as
+/// many for a square shape), `O(m n)` per order evaluated, plus the
+/// packing; memory `16 m n` bytes, and each thread keeps recent tables for
+/// reuse within 16 MiB ([`TABLE_CACHE_CELLS`]). Networks above
+/// [`TEMPERATURE_CELL_LIMIT`] cells give [`Error::TooLarge`].
 ///
 /// References: Atmar & Patterson (1993), Oecologia 96:373-382;
 /// Rodriguez-Girones & Santamaria (2006), J. Biogeogr. 33:924-935.
@@ -547,35 +636,41 @@ pub(crate) fn sorted(v: &dyn NetView, _o: &IndexOptions) -> Result<f64> {
 
 /// `T` of `b` in the degree-sorted order, as [`temperature`] gives it.
 ///
-/// Draws of a model that keeps the number of ones `L` reuse the table of
-/// the thread's last matrix ([`temperature_of_bits`]). When `L` changes
-/// (equiprobable and proportional draws), building a new table would cost
-/// a root solve for every cell; instead each cell's side of the isocline is
-/// read from `a^p + b^p` (one power per row and per column) and only the
-/// unexpected cells, a presence outside the presence region or an absence
-/// inside it, get their root solve. Every value is computed by the same
-/// expressions as the table's and summed in the same order (the skipped
-/// cells add `+0`), so the result equals the table's bit for bit. The table
-/// is built (and kept) again once two matrices in a row have the same shape
-/// and `L`.
+/// A table of the thread's cache for this shape and `L` serves when there
+/// is one ([`TABLE_CACHE_CELLS`]). Otherwise building the table would cost
+/// a root solve for every cell, where the sorted value needs few: each
+/// cell's side of the isocline is read from `a^p + b^p` (one power per row
+/// and per column) and only the unexpected cells, a presence outside the
+/// presence region or an absence inside it, get their root solve. Every
+/// value is computed by the same expressions as the table's and summed in
+/// the same order (the skipped cells add `+0`), so the result equals the
+/// table's bit for bit.
+///
+/// A table costs about two such sums to build at 300 x 300 (square shapes,
+/// `benches/temperature.rs`, `table_build`), and pays off only if it is
+/// used again before the cache drops it. So it is built (and kept) when
+/// the same shape and `L` came among the last `C` matrices this path saw,
+/// `C` the number of such tables the cache holds (`TABLE_CACHE_CELLS / (m
+/// n)`, at most [`TABLE_CACHE_TABLES`]): always under a model that keeps
+/// `L`, for the recurring values of `L` of a small network under one that
+/// does not, and seldom for a large one, where `L` spreads over more values
+/// than the cache holds.
 pub(crate) fn sorted_of_bits(b: &BitMatrix) -> Result<f64> {
     let key = (b.nrows(), b.ncols(), b.count_ones());
     check_size(key.0, key.1)?;
-    let cached = LAST_TABLE.with(|c| {
-        c.borrow()
-            .as_ref()
-            .filter(|t| (t.m, t.n, t.links) == key)
-            .cloned()
-    });
     let rows = degree_order(&b.row_degrees());
     let cols = degree_order(&b.col_degrees());
+    let (cached, recent) = TABLES.with(|c| {
+        let mut c = c.borrow_mut();
+        let recent = c.seen_recently(key);
+        (c.get(key), recent)
+    });
     if let Some(table) = cached {
         return Ok(table.to_t(table.total(b, &rows, &cols)));
     }
-    let repeated = LAST_KEY.with(|k| k.replace(Some(key)) == Some(key));
-    if repeated && key.0 * key.1 <= TABLE_CACHE_CELLS {
+    if recent {
         let table = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
-        LAST_TABLE.with(|c| *c.borrow_mut() = Some(table.clone()));
+        TABLES.with(|c| c.borrow_mut().keep(&table));
         return Ok(table.to_t(table.total(b, &rows, &cols)));
     }
     Ok(to_t(key.0, key.1, unexpected_total(b, &rows, &cols)))
@@ -596,14 +691,8 @@ pub fn unexpected_total(b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
         return 0.0; // the table is all zeros
     }
     let p = isocline_p(links as f64 / cells as f64);
-    // Per column: x, a = 1 - x and a^p, as the table's loop computes them.
-    let xs: Vec<(f64, f64, f64)> = (0..n)
-        .map(|j| {
-            let x = (j as f64 + 0.5) / n as f64;
-            let a = 1.0 - x;
-            (x, a, a.powf(p))
-        })
-        .collect();
+    // Per column: x, a = 1 - x and a^p, as the table's build computes them.
+    let xs = centres(n, p);
     let sums: Vec<f64> = (0..m)
         .into_par_iter()
         .map(|i| {
@@ -641,27 +730,20 @@ fn to_t(m: usize, n: usize, total: f64) -> f64 {
 /// [`temperature`] of a bit-packed binary matrix (null-model draws).
 ///
 /// The table of cell values depends only on the shape and the number of
-/// ones, so each thread keeps the last one it built (up to
-/// [`TABLE_CACHE_CELLS`] cells) and reuses it when the next matrix has the
-/// same shape and number of ones, as draws of a null model that keeps `L`
-/// do. The result is the same either way.
+/// ones, so each thread keeps the tables it built recently, within
+/// [`TABLE_CACHE_CELLS`], and reuses one when a later matrix has the same
+/// shape and number of ones: every draw of a model that keeps `L`, and the
+/// recurring values of `L` under one that does not (`proportional`, or the
+/// binary view of `fixed-totals` draws). The result is the same either way.
 ///
 /// Errors: an empty shape or more than [`TEMPERATURE_CELL_LIMIT`] cells.
 pub(crate) fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> Result<Temperature> {
     let key = (b.nrows(), b.ncols(), b.count_ones());
-    let cached = LAST_TABLE.with(|c| {
-        c.borrow()
-            .as_ref()
-            .filter(|t| (t.m, t.n, t.links) == key)
-            .cloned()
-    });
-    let table = match cached {
+    let table = match TABLES.with(|c| c.borrow_mut().get(key)) {
         Some(t) => t,
         None => {
             let t = std::sync::Arc::new(UnexpectednessTable::new(key.0, key.1, key.2)?);
-            if key.0 * key.1 <= TABLE_CACHE_CELLS {
-                LAST_TABLE.with(|c| *c.borrow_mut() = Some(t.clone()));
-            }
+            TABLES.with(|c| c.borrow_mut().keep(&t));
             t
         }
     };
@@ -669,16 +751,99 @@ pub(crate) fn temperature_of_bits(b: &BitMatrix, opts: &TemperatureOptions) -> R
 }
 
 #[doc(hidden)]
-/// Largest table (in cells, 2^20: 16 MiB) that [`temperature`]
-/// keeps per thread for reuse.
+/// The cell budget of the tables that [`temperature`] keeps per thread for
+/// reuse: 2^20 cells (two `f64` each: 16 MiB) in all, and at most
+/// [`TABLE_CACHE_TABLES`] tables; the least recently used table is dropped
+/// first, and a table of more cells than the budget is not kept. So each
+/// thread that evaluates temperature holds at most 16 MiB of kept tables
+/// (plus under 64 KiB of their headers), whatever the number of draws, on
+/// top of the one table in use.
 pub const TABLE_CACHE_CELLS: usize = 1 << 20;
 
+#[doc(hidden)]
+/// Most tables kept per thread (see [`TABLE_CACHE_CELLS`]); bounds the
+/// cache's bookkeeping for tiny tables and its linear search.
+pub const TABLE_CACHE_TABLES: usize = 256;
+
+/// Shape and number of ones of a table: `(m, n, L)`.
+type TableKey = (usize, usize, usize);
+
+/// The tables one thread keeps (see [`TABLE_CACHE_CELLS`]).
+struct TableCache {
+    /// Kept tables with the tick of their last use.
+    tables: Vec<(u64, std::sync::Arc<UnexpectednessTable>)>,
+    /// Cells charged for the kept tables.
+    cells: usize,
+    /// Counts lookups and insertions (the recency order).
+    tick: u64,
+    /// Shape and `L` of the last matrices [`sorted_of_bits`] saw, the
+    /// latest first (at most [`TABLE_CACHE_TABLES`]).
+    recent: std::collections::VecDeque<TableKey>,
+}
+
+impl TableCache {
+    const fn new() -> Self {
+        TableCache {
+            tables: Vec::new(),
+            cells: 0,
+            tick: 0,
+            recent: std::collections::VecDeque::new(),
+        }
+    }
+
+    /// True when `key` is among the last `C` keys recorded here, `C` the
+    /// number of tables of its size the cache holds; then records it.
+    fn seen_recently(&mut self, key: TableKey) -> bool {
+        let holds = (TABLE_CACHE_CELLS / (key.0 * key.1)).min(TABLE_CACHE_TABLES);
+        let seen = self.recent.iter().take(holds).any(|&k| k == key);
+        if self.recent.len() == TABLE_CACHE_TABLES {
+            self.recent.pop_back();
+        }
+        self.recent.push_front(key);
+        seen
+    }
+
+    fn charge(t: &UnexpectednessTable) -> usize {
+        t.m * t.n
+    }
+
+    /// The kept table for `key`, marked as just used.
+    fn get(&mut self, key: TableKey) -> Option<std::sync::Arc<UnexpectednessTable>> {
+        self.tick += 1;
+        let tick = self.tick;
+        self.tables
+            .iter_mut()
+            .find(|(_, t)| (t.m, t.n, t.links) == key)
+            .map(|(used, t)| {
+                *used = tick;
+                t.clone()
+            })
+    }
+
+    /// Keeps `table`, dropping the least recently used tables as needed to
+    /// stay within the budget; a table above the whole budget is not kept,
+    /// and one whose key is kept already (built meanwhile by a job that
+    /// rayon ran on this thread during the build) is not kept twice.
+    fn keep(&mut self, table: &std::sync::Arc<UnexpectednessTable>) {
+        let charge = Self::charge(table);
+        let key = (table.m, table.n, table.links);
+        if charge > TABLE_CACHE_CELLS || self.get(key).is_some() {
+            return;
+        }
+        while self.cells + charge > TABLE_CACHE_CELLS || self.tables.len() >= TABLE_CACHE_TABLES {
+            let oldest = (0..self.tables.len()).min_by_key(|&k| self.tables[k].0);
+            let Some(k) = oldest else { break };
+            let (_, gone) = self.tables.swap_remove(k);
+            self.cells -= Self::charge(&gone);
+        }
+        self.tick += 1;
+        self.tables.push((self.tick, table.clone()));
+        self.cells += charge;
+    }
+}
+
 thread_local! {
-    static LAST_TABLE: std::cell::RefCell<Option<std::sync::Arc<UnexpectednessTable>>> =
-        const { std::cell::RefCell::new(None) };
-    /// Shape and `L` of the last matrix [`sorted_of_bits`] saw.
-    static LAST_KEY: std::cell::Cell<Option<(usize, usize, usize)>> =
-        const { std::cell::Cell::new(None) };
+    static TABLES: std::cell::RefCell<TableCache> = const { std::cell::RefCell::new(TableCache::new()) };
 }
 
 /// [`temperature`] of a bit matrix with a table built beforehand (it must

@@ -721,3 +721,178 @@ const PINNED_PACKED: [(f64, &[usize], &[usize]); 2] = [
         &[9, 0, 3, 4, 5, 8, 2, 1, 7, 6],
     ),
 ];
+
+/// `crossing(a, b, p)` is symmetric in `a` and `b` bit for bit (the claim
+/// behind the mirrored build of square tables): seeded random `a`, `b` in
+/// `(0, 1)` and `p` from the isocline of random fills, plus cell centres
+/// of small grids.
+#[test]
+fn crossing_is_symmetric_bit_for_bit() {
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(71);
+    for _ in 0..20_000 {
+        let (a, b) = (rng.random::<f64>(), rng.random::<f64>());
+        let p = isocline_p(rng.random_range(0.001..0.999));
+        assert_eq!(
+            crossing(a, b, p).to_bits(),
+            crossing(b, a, p).to_bits(),
+            "a {a} b {b} p {p}"
+        );
+    }
+    for n in 1..40usize {
+        let p = isocline_p(rng.random_range(0.01..0.99));
+        for i in 0..n {
+            for j in 0..n {
+                let a = 1.0 - (j as f64 + 0.5) / n as f64;
+                let b = 1.0 - (i as f64 + 0.5) / n as f64;
+                assert_eq!(crossing(a, b, p).to_bits(), crossing(b, a, p).to_bits());
+            }
+        }
+    }
+}
+
+/// The table build (powers per row and column, square shapes mirrored)
+/// equals the cell-by-cell build bit for bit, for square and other shapes,
+/// every `L` of small shapes and random `L` of larger ones (including 0,
+/// `m n`, and `m n / 2` where `p = 1`); and both agree with the slow
+/// reference of METHODS.md §4 to 1e-12.
+#[test]
+fn table_build_equals_the_cell_by_cell_build() {
+    let same = |m: usize, n: usize, links: usize| {
+        let new = UnexpectednessTable::new(m, n, links).unwrap();
+        let old = UnexpectednessTable::new_cell_by_cell(m, n, links).unwrap();
+        assert_eq!(new.p.to_bits(), old.p.to_bits());
+        for (k, (x, y)) in new.present.iter().zip(&old.present).enumerate() {
+            assert_eq!(
+                x.to_bits(),
+                y.to_bits(),
+                "{m} x {n}, L {links}, present {k}"
+            );
+        }
+        for (k, (x, y)) in new.absent.iter().zip(&old.absent).enumerate() {
+            assert_eq!(x.to_bits(), y.to_bits(), "{m} x {n}, L {links}, absent {k}");
+        }
+        new
+    };
+    for m in 1..9usize {
+        for n in 1..9usize {
+            for links in 0..=m * n {
+                same(m, n, links);
+            }
+        }
+    }
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(72);
+    let mut shapes = vec![
+        (300, 300),
+        (301, 300),
+        (64, 64),
+        (65, 65),
+        (1, 500),
+        (500, 1),
+    ];
+    for _ in 0..40 {
+        let m = rng.random_range(1..120);
+        let n = if rng.random_bool(0.5) {
+            m
+        } else {
+            rng.random_range(1..120)
+        };
+        shapes.push((m, n));
+    }
+    for (m, n) in shapes {
+        let cells = m * n;
+        let mut ls = vec![0, cells, cells / 2, 1, cells - 1];
+        ls.extend((0..3).map(|_| rng.random_range(0..=cells)));
+        for links in ls {
+            let t = same(m, n, links);
+            if m <= 40 && n <= 40 && links > 0 && links < cells {
+                let p = t.p();
+                for (i, j) in [(0, 0), (m - 1, n - 1), (m / 2, n / 3), (m - 1, 0)] {
+                    assert!((t.if_present(i, j) - ref_u(m, n, p, i, j, true)).abs() < 1e-12);
+                    assert!((t.if_absent(i, j) - ref_u(m, n, p, i, j, false)).abs() < 1e-12);
+                }
+            }
+        }
+    }
+}
+
+/// The per-thread cache keeps recent tables within its budget: at most
+/// `TABLE_CACHE_CELLS` cells and `TABLE_CACHE_TABLES` tables after any
+/// sequence of keys, the least recently used dropped first, never a table
+/// above the budget; and a kept table is found again.
+#[test]
+fn table_cache_stays_within_its_budget() {
+    let mut cache = TableCache::new();
+    let mut rng = Xoshiro256PlusPlus::seed_from_u64(73);
+    let table = |m, n, l| std::sync::Arc::new(UnexpectednessTable::new(m, n, l).unwrap());
+    // 300 x 300 tables: 11 fit in 2^20 cells.
+    for l in 0..30usize {
+        cache.keep(&table(300, 300, 1000 + l));
+        assert!(cache.cells <= TABLE_CACHE_CELLS);
+        assert_eq!(cache.cells, cache.tables.len() * 90_000);
+    }
+    assert_eq!(cache.tables.len(), TABLE_CACHE_CELLS / 90_000);
+    // The most recent 11 are kept; using the oldest kept one saves it
+    // from the next eviction.
+    assert!(cache.get((300, 300, 1018)).is_none());
+    assert!(cache.get((300, 300, 1019)).is_some());
+    cache.keep(&table(300, 300, 5000));
+    assert!(cache.get((300, 300, 1019)).is_some());
+    assert!(cache.get((300, 300, 1020)).is_none());
+    // Tiny tables: at most TABLE_CACHE_TABLES of them.
+    for l in 0..=600usize {
+        cache.keep(&table(30, 20, l));
+        assert!(cache.tables.len() <= TABLE_CACHE_TABLES);
+        assert!(cache.cells <= TABLE_CACHE_CELLS);
+    }
+    assert!(cache.get((30, 20, 600)).is_some());
+    // Random shapes and keys.
+    for _ in 0..300 {
+        let (m, n) = (rng.random_range(1..400), rng.random_range(1..400));
+        let key = (m, n, rng.random_range(0..=m * n));
+        if cache.get(key).is_none() {
+            cache.keep(&table(key.0, key.1, key.2));
+        }
+        let total: usize = cache.tables.iter().map(|(_, t)| t.m * t.n).sum();
+        assert_eq!(total, cache.cells);
+        assert!(cache.cells <= TABLE_CACHE_CELLS);
+        assert!(cache.tables.len() <= TABLE_CACHE_TABLES);
+    }
+    // Above the budget: not kept, nothing dropped.
+    let before = cache.tables.len();
+    cache.keep(&table(1025, 1024, 7));
+    assert_eq!(cache.tables.len(), before);
+    assert!(cache.get((1025, 1024, 7)).is_none());
+}
+
+/// The sorted path's rule for building a table: a key counts as recent
+/// when it is among the last `C` keys, `C` the number of tables of its size
+/// the cache holds (11 of 300 x 300, none above the budget); the record
+/// of keys stays within `TABLE_CACHE_TABLES`; a key kept already is not
+/// kept twice.
+#[test]
+fn sorted_path_builds_for_recent_keys_only() {
+    let mut cache = TableCache::new();
+    assert!(!cache.seen_recently((300, 300, 5)));
+    for l in 0..10 {
+        assert!(!cache.seen_recently((300, 300, 100 + l)));
+    }
+    assert!(cache.seen_recently((300, 300, 5)), "10 keys back");
+    for l in 0..11 {
+        assert!(!cache.seen_recently((300, 300, 200 + l)));
+    }
+    assert!(!cache.seen_recently((300, 300, 5)), "11 keys back");
+    assert!(!cache.seen_recently((1025, 1024, 7)));
+    assert!(!cache.seen_recently((1025, 1024, 7)), "above the budget");
+    assert!(!cache.seen_recently((4, 4, 7)));
+    assert!(cache.seen_recently((4, 4, 7)), "twice in a row");
+    for l in 0..1000 {
+        cache.seen_recently((2, 2, l % 300));
+        assert!(cache.recent.len() <= TABLE_CACHE_TABLES);
+    }
+    assert!(cache.seen_recently((2, 2, 299)));
+    let t = std::sync::Arc::new(UnexpectednessTable::new(5, 6, 11).unwrap());
+    cache.keep(&t);
+    cache.keep(&t);
+    assert_eq!(cache.tables.len(), 1);
+    assert_eq!(cache.cells, 30);
+}
