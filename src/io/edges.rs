@@ -494,13 +494,15 @@ fn edge_lines<'a>(
 }
 
 /// Runs one pipeline (see [`edge_lines`]) from `fields`' position, a line
-/// start, and moves `fields` to where it stopped.
+/// start, and moves `fields` to where it stopped. Returns `false`, having
+/// read nothing, when the system cannot start the thread (the reader then
+/// goes on alone).
 fn pipeline<'a, 's>(
     scope: &'s std::thread::Scope<'s, '_>,
     fields: &mut Fields<'a>,
     batch: &mut Vec<(&'a str, &'a str, f64)>,
     chunk: &mut EdgeLines,
-) -> Result<()>
+) -> Result<bool>
 where
     'a: 's,
 {
@@ -508,7 +510,14 @@ where
     let (text, delim, source, from) = (fields.text, fields.delim, fields.source, fields.pos);
     let (tx, rx) = sync_channel(PIPELINE_DEPTH);
     let (give_back, free) = sync_channel(PIPELINE_DEPTH + 2);
-    scope.spawn(move || scan_lines(text, delim, source, from, tx, free));
+    let started = std::thread::Builder::new()
+        .name("nidus-scan".into())
+        .spawn_scoped(scope, move || {
+            scan_lines(text, delim, source, from, tx, free)
+        });
+    if started.is_err() {
+        return Ok(false);
+    }
     loop {
         match rx.recv() {
             Ok(Scan::Lines(lines)) => {
@@ -520,7 +529,7 @@ where
             Ok(Scan::End { to, breaks }) => {
                 fields.pos = to;
                 fields.line += breaks;
-                return Ok(());
+                return Ok(true);
             }
             Err(_) => {
                 return Err(Error::InvalidArgument(format!(
@@ -568,7 +577,9 @@ where
             {
                 starts += 1;
                 piped = true;
-                pipeline(scope, fields, &mut batch, &mut chunk)?;
+                if !pipeline(scope, fields, &mut batch, &mut chunk)? {
+                    starts = PIPELINE_STARTS;
+                }
             }
             _ => piped = false,
         }
