@@ -1,5 +1,6 @@
 //! Reading networks from text: edge lists of 10^4 and 10^5 lines (10^6 with
-//! `NIDUS_BENCH_BIG=1`) and a 500 x 500 matrix, parsed from memory with
+//! `NIDUS_BENCH_BIG=1`), also on one thread (`read_edges_one_thread`), and
+//! a 500 x 500 matrix, parsed from memory with
 //! `nidus::io::parse_network`. Inputs are synthetic, made here from a seed:
 //! uniform random cells of a table with as many rows and columns as a
 //! tenth of the lines, integer weights 1-20 (the layout of
@@ -66,6 +67,34 @@ fn bench_edges(c: &mut Criterion) {
         });
     }
     group.finish();
+    // The same with one thread: the reader reads files of 1 MiB and more
+    // partly on a second thread when there is one (`read_edges`).
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .unwrap();
+    let mut group = c.benchmark_group("read_edges_one_thread");
+    group.sample_size(10);
+    for lines in sizes_again() {
+        let text = edge_text(lines, 1);
+        group.throughput(Throughput::Bytes(text.len() as u64));
+        group.bench_with_input(BenchmarkId::from_parameter(lines), &text, |b, text| {
+            b.iter(|| {
+                pool.install(|| parse_network(black_box(text), Path::new("bench.csv"), &opts))
+                    .unwrap()
+            })
+        });
+    }
+    group.finish();
+}
+
+/// The sizes above 10^5 lines that `bench_edges` times on one thread.
+fn sizes_again() -> Vec<usize> {
+    let mut sizes = vec![100_000usize];
+    if std::env::var_os("NIDUS_BENCH_BIG").is_some() {
+        sizes.push(1_000_000);
+    }
+    sizes
 }
 
 fn bench_matrix(c: &mut Criterion) {

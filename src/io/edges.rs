@@ -2,6 +2,7 @@
 //! first appearance, and the header rule of [`EdgeHeader::Auto`].
 
 use super::*;
+use std::sync::mpsc::{sync_channel, Receiver, SyncSender};
 
 /// One slot of [`LabelIndex`]: the first eight bytes of a label, a tag
 /// (24 bits of its hash and its length, capped at 255) and its index + 1
@@ -363,13 +364,193 @@ struct EdgeLines {
     candidate: Option<(usize, [String; 2])>,
 }
 
+/// Smallest rest of a text (bytes) that [`edge_lines`] reads with a
+/// second thread.
+const PIPELINE_MIN: usize = 1 << 20;
+
+/// Lines in one message of the pipeline (see [`scan_lines`]).
+const PIPELINE_CHUNK: usize = 4096;
+
+/// Messages the pipeline holds at most, so that its memory is bounded
+/// (a few MB) whatever the file's size.
+const PIPELINE_DEPTH: usize = 4;
+
+/// Pipelines started in one file at most (each ends at a line that is not
+/// of the common form; a file full of such lines is read by one thread).
+const PIPELINE_STARTS: usize = 64;
+
+/// A common edge line scanned ahead: row label, column label, weight and
+/// the labels' [`label_hash`]es.
+type Scanned<'a> = (&'a str, &'a str, f64, u64, u64);
+
+/// What the scanning thread sends: lines, or where it stopped (the end of
+/// the text or the start of the first line it did not take) with the line
+/// breaks it passed.
+enum Scan<'a> {
+    Lines(Vec<Scanned<'a>>),
+    End { to: usize, breaks: usize },
+}
+
+/// The scanning end of the pipeline: reads the common edge lines (see
+/// [`quick_edge`]) of `text` from `from`, the start of a line, with their
+/// weights when plain decimals (or absent) and their labels' hashes, and
+/// sends them in chunks of [`PIPELINE_CHUNK`], up to the end of the text
+/// or the first line that is not such a line; then where it stopped.
+/// Nothing here can fail: the first line not taken, whatever it holds, is
+/// left to the reader's general path. Chunk buffers come back on `free`.
+/// Stops early when the reader hangs up.
+fn scan_lines<'a>(
+    text: &'a str,
+    delim: u8,
+    source: &'a Path,
+    from: usize,
+    out: SyncSender<Scan<'a>>,
+    free: Receiver<Vec<Scanned<'a>>>,
+) {
+    let mut fields = Fields::new(text, delim, source);
+    fields.pos = from;
+    fields.line = 0;
+    loop {
+        let mut lines = free
+            .try_recv()
+            .unwrap_or_else(|_| Vec::with_capacity(PIPELINE_CHUNK));
+        let mut done = false;
+        while lines.len() < PIPELINE_CHUNK {
+            let (pos, line) = (fields.pos, fields.line);
+            let Some((_, r, c, w)) = quick_edge(&mut fields) else {
+                done = true;
+                break;
+            };
+            let weight = if w.is_empty() {
+                Some(1.0)
+            } else {
+                plain_decimal(w.as_bytes())
+            };
+            let Some(weight) = weight else {
+                (fields.pos, fields.line) = (pos, line);
+                done = true;
+                break;
+            };
+            lines.push((
+                r,
+                c,
+                weight,
+                label_hash(r.as_bytes()),
+                label_hash(c.as_bytes()),
+            ));
+        }
+        if !lines.is_empty() && out.send(Scan::Lines(lines)).is_err() {
+            return;
+        }
+        if done {
+            let _ = out.send(Scan::End {
+                to: fields.pos,
+                breaks: fields.line,
+            });
+            return;
+        }
+    }
+}
+
+/// Interns lines scanned ahead, in order, prefetching each batch's slots
+/// first (as [`resolve_batch`] does).
+fn resolve_scanned(lines: &[Scanned<'_>], chunk: &mut EdgeLines, source: &Path) -> Result<()> {
+    for batch in lines.chunks(LOOKUP_BATCH) {
+        let mut touched = 0u32;
+        for &(_, _, _, hr, hc) in batch {
+            touched ^= chunk.rows.peek(hr) ^ chunk.cols.peek(hc);
+        }
+        std::hint::black_box(touched);
+        for &(r, c, w, hr, hc) in batch {
+            add_line(chunk, (r, hr), (c, hc), w, source)?;
+        }
+    }
+    Ok(())
+}
+
 /// Parses the edge lines that `fields` yields; `header` says how to treat
 /// the first non-blank line.
+///
+/// With a second thread to spare, a large file (from [`PIPELINE_MIN`]
+/// bytes on; `;` files, which track decimal marks, excepted) is read by a
+/// pipeline: once the first line is read, a second thread scans the
+/// following common lines ([`scan_lines`]: the line scan, the weight and
+/// the labels' hashes) while this one interns them in order as they come.
+/// At the first line of another kind the pipeline ends, this thread reads
+/// that line by the general path and starts a new pipeline after it (at
+/// most [`PIPELINE_STARTS`] times). Labels, entries, notes and errors are
+/// the same as when reading alone; memory grows by a few MB at most.
 fn edge_lines<'a>(
     fields: &mut Fields<'a>,
     header: EdgeHeader,
     report: &mut ReadReport,
 ) -> Result<EdgeLines> {
+    if fields.text.len() >= PIPELINE_MIN && fields.delim != b';' && rayon::current_num_threads() > 1
+    {
+        std::thread::scope(|scope| edge_lines_with(fields, header, report, Some(scope)))
+    } else {
+        edge_lines_with(fields, header, report, None)
+    }
+}
+
+/// Runs one pipeline (see [`edge_lines`]) from `fields`' position, a line
+/// start, and moves `fields` to where it stopped. Returns `false`, having
+/// read nothing, when the system cannot start the thread (the reader then
+/// goes on alone).
+fn pipeline<'a, 's>(
+    scope: &'s std::thread::Scope<'s, '_>,
+    fields: &mut Fields<'a>,
+    batch: &mut Vec<(&'a str, &'a str, f64)>,
+    chunk: &mut EdgeLines,
+) -> Result<bool>
+where
+    'a: 's,
+{
+    resolve_batch(batch, chunk, fields.source)?;
+    let (text, delim, source, from) = (fields.text, fields.delim, fields.source, fields.pos);
+    let (tx, rx) = sync_channel(PIPELINE_DEPTH);
+    let (give_back, free) = sync_channel(PIPELINE_DEPTH + 2);
+    let started = std::thread::Builder::new()
+        .name("nidus-scan".into())
+        .spawn_scoped(scope, move || {
+            scan_lines(text, delim, source, from, tx, free)
+        });
+    if started.is_err() {
+        return Ok(false);
+    }
+    loop {
+        match rx.recv() {
+            Ok(Scan::Lines(lines)) => {
+                resolve_scanned(&lines, chunk, fields.source)?;
+                let mut lines = lines;
+                lines.clear();
+                let _ = give_back.try_send(lines);
+            }
+            Ok(Scan::End { to, breaks }) => {
+                fields.pos = to;
+                fields.line += breaks;
+                return Ok(true);
+            }
+            Err(_) => {
+                return Err(Error::InvalidArgument(format!(
+                    "{}: the thread scanning lines ahead stopped",
+                    fields.source.display()
+                )))
+            }
+        }
+    }
+}
+
+/// [`edge_lines`], with pipelines started in `scope` when given.
+fn edge_lines_with<'a, 's>(
+    fields: &mut Fields<'a>,
+    header: EdgeHeader,
+    report: &mut ReadReport,
+    scope: Option<&'s std::thread::Scope<'s, '_>>,
+) -> Result<EdgeLines>
+where
+    'a: 's,
+{
     let mut rec: Vec<Cow<'a, str>> = Vec::with_capacity(4);
     let mut batch: Vec<(&'a str, &'a str, f64)> = Vec::with_capacity(LOOKUP_BATCH);
     let decimal_comma = fields.delim == b';';
@@ -382,7 +563,26 @@ fn edge_lines<'a>(
         candidate: None,
     };
     let mut first = true;
+    let (mut starts, mut piped) = (0, false);
     loop {
+        // `fields` is at a line start here; past the first line, the
+        // common lines may go through a pipeline, and after one has ended,
+        // the line it stopped at goes through the paths below first.
+        match scope {
+            Some(scope)
+                if !first
+                    && !piped
+                    && starts < PIPELINE_STARTS
+                    && fields.text.len() - fields.pos >= PIPELINE_MIN =>
+            {
+                starts += 1;
+                piped = true;
+                if !pipeline(scope, fields, &mut batch, &mut chunk)? {
+                    starts = PIPELINE_STARTS;
+                }
+            }
+            _ => piped = false,
+        }
         if !first {
             if let Some((line, r, c, w)) = quick_edge(fields) {
                 // A plain decimal is what `Fields::value` would return for
@@ -516,8 +716,9 @@ pub(super) fn parse_edges(
             ),
         });
     }
-    let mut rows = chunk.rows.into_strings();
-    let mut cols = chunk.cols.into_strings();
+    // Each side's labels become strings on its own thread when there are two.
+    let (rows, cols) = (chunk.rows, chunk.cols);
+    let (mut rows, mut cols) = rayon::join(|| rows.into_strings(), || cols.into_strings());
     if let Some((line, words)) = chunk.candidate.take() {
         if judge_first_line(
             fields,

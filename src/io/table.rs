@@ -41,24 +41,29 @@ impl Table {
                 }
             };
         }
-        if !opts.keep_empty {
-            self.drop_empty(report)?;
-        }
+        let total = if opts.keep_empty {
+            None
+        } else {
+            self.drop_empty(report)?
+        };
         match self.cells {
             TableCells::Dense(a) => Network::from_dense(a, self.rows, self.cols),
             TableCells::Triplets(e) => {
-                check_sums(&self.rows, &self.cols, &e)?;
+                check_sums(&self.rows, &self.cols, &e, total)?;
                 // Interned labels: distinct on each side by construction.
                 Network::from_triplets_distinct(self.rows, self.cols, e)
             }
         }
     }
 
-    /// Removes the rows and columns without a positive weight.
-    pub(super) fn drop_empty(&mut self, report: &mut ReadReport) -> Result<()> {
+    /// Removes the rows and columns without a positive weight. For triplets,
+    /// returns the sum of their weights in their order (see [`check_sums`]),
+    /// taken in the same pass.
+    pub(super) fn drop_empty(&mut self, report: &mut ReadReport) -> Result<Option<f64>> {
         let (m, n) = (self.rows.len(), self.cols.len());
         let mut row_has = vec![false; m];
         let mut col_has = vec![false; n];
+        let mut total = None;
         match &self.cells {
             TableCells::Dense(a) => {
                 for ((i, j), &w) in a.indexed_iter() {
@@ -69,12 +74,15 @@ impl Table {
                 }
             }
             TableCells::Triplets(e) => {
+                let mut sum = 0.0;
                 for &(i, j, w) in e {
+                    sum += w;
                     if w > 0.0 {
                         row_has[i as usize] = true;
                         col_has[j as usize] = true;
                     }
                 }
+                total = Some(sum);
             }
         }
         if !row_has.iter().any(|&h| h) {
@@ -83,7 +91,7 @@ impl Table {
         let keep_rows: Vec<usize> = (0..m).filter(|&i| row_has[i]).collect();
         let keep_cols: Vec<usize> = (0..n).filter(|&j| col_has[j]).collect();
         if keep_rows.len() == m && keep_cols.len() == n {
-            return Ok(());
+            return Ok(total);
         }
         for (side, labels, has) in [
             ("row", &self.rows, &row_has),
@@ -137,20 +145,24 @@ impl Table {
         };
         keep(&mut self.rows, &row_has);
         keep(&mut self.cols, &col_has);
-        Ok(())
+        // Only zero weights were removed, so the sum is unchanged.
+        Ok(total)
     }
 }
 
 /// Errors when repeated lines of one pair sum past the largest `f64`: the
-/// sum of all weights is checked first (finite for every file but such a
-/// one, since weights are non-negative), and only when it is infinite are
-/// the pairs summed to find the first that overflows.
+/// sum of all weights, in their order, is checked first (finite for every
+/// file but such a one, since weights are non-negative; `total` when the
+/// caller has it), and only when it is infinite are the pairs summed to
+/// find the first that overflows.
 pub(super) fn check_sums(
     rows: &[String],
     cols: &[String],
     entries: &[(u32, u32, f64)],
+    total: Option<f64>,
 ) -> Result<()> {
-    if entries.iter().map(|e| e.2).sum::<f64>().is_finite() {
+    let total = total.unwrap_or_else(|| entries.iter().map(|e| e.2).sum::<f64>());
+    if total.is_finite() {
         return Ok(());
     }
     let mut sums: HashMap<(u32, u32), f64> = HashMap::new();

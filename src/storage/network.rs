@@ -14,6 +14,7 @@ use std::sync::OnceLock;
 
 use ndarray::{Array2, ArrayView2};
 use num_traits::{ToPrimitive, Zero};
+use rayon::prelude::*;
 
 use crate::error::{Error, Result};
 use crate::storage::bits::BitMatrix;
@@ -67,55 +68,144 @@ impl<T: Weight> Csr<T> {
     /// Cost: `O(m + L + sum over rows of d log d)` time (`d` a row's
     /// triplets), `O(m + L)` memory.
     pub fn from_triplets(nrows: usize, ncols: usize, entries: Vec<(u32, u32, T)>) -> Self {
-        let mut start = vec![0usize; nrows + 1];
-        for &(i, _, _) in &entries {
-            start[i as usize + 1] += 1;
-        }
-        for i in 0..nrows {
-            start[i + 1] += start[i];
-        }
-        // Scatter into row order, in the arrays that are kept.
-        let mut next = start.clone();
-        let mut indices = vec![0u32; entries.len()];
-        let mut values: Vec<T> = vec![T::zero(); entries.len()];
-        const AHEAD: usize = 16;
-        for (k, (i, j, w)) in entries.iter().copied().enumerate() {
-            if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
-                let s = next[r as usize];
-                prefetch_write(indices.as_ptr().wrapping_add(s));
-                prefetch_write(values.as_ptr().wrapping_add(s));
+        Self::from_counted_triplets(nrows, ncols, entries, None)
+    }
+
+    /// [`from_triplets`](Self::from_triplets), with the triplets of each row
+    /// counted beforehand when `counts` is given: `counts[i + 1]` holds the
+    /// number of triplets of row `i` (`counts[0]` is 0, `counts.len()` is
+    /// `nrows + 1`), so that a caller already passing over the triplets
+    /// saves a pass when they are ordered on one thread.
+    ///
+    /// With several threads (and at least [`PARALLEL_TRIPLETS`] triplets),
+    /// the triplets are cut into consecutive parts, one per thread; each
+    /// part's rows are counted on its thread, part `t`'s triplets of row
+    /// `i` go after those of parts before `t` (so each row keeps input
+    /// order), each part is scattered on its thread, and rows are then
+    /// sorted and compacted in blocks of about equal size, one per thread.
+    /// Every row is built exactly as on one thread.
+    pub(crate) fn from_counted_triplets(
+        nrows: usize,
+        ncols: usize,
+        entries: Vec<(u32, u32, T)>,
+        counts: Option<Vec<usize>>,
+    ) -> Self {
+        let len = entries.len();
+        let parts = triplet_parts(len);
+        let mut indices = vec![0u32; len];
+        let mut values: Vec<T> = vec![T::zero(); len];
+        let start = if parts == 1 {
+            let mut start = counts.unwrap_or_else(|| {
+                let mut c = vec![0usize; nrows + 1];
+                for &(i, _, _) in &entries {
+                    c[i as usize + 1] += 1;
+                }
+                c
+            });
+            debug_assert_eq!(start.len(), nrows + 1);
+            for i in 0..nrows {
+                start[i + 1] += start[i];
             }
-            let slot = &mut next[i as usize];
-            indices[*slot] = j;
-            values[*slot] = w;
-            *slot += 1;
-        }
-        drop(next);
+            debug_assert_eq!(start[nrows], len);
+            let mut next = start.clone();
+            const AHEAD: usize = 16;
+            for (k, &(i, j, w)) in entries.iter().enumerate() {
+                if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
+                    let s = next[r as usize];
+                    prefetch_write(indices.as_ptr().wrapping_add(s));
+                    prefetch_write(values.as_ptr().wrapping_add(s));
+                }
+                let slot = &mut next[i as usize];
+                indices[*slot] = j;
+                values[*slot] = w;
+                *slot += 1;
+            }
+            start
+        } else {
+            let part = len.div_ceil(parts);
+            // Per part and row: the count, then where the part's next
+            // triplet of the row goes (below 2^32: `triplet_parts`).
+            let mut next: Vec<Vec<u32>> = entries
+                .par_chunks(part)
+                .map(|c| {
+                    let mut k = vec![0u32; nrows];
+                    for &(i, _, _) in c {
+                        k[i as usize] += 1;
+                    }
+                    k
+                })
+                .collect();
+            let mut start = vec![0usize; nrows + 1];
+            for i in 0..nrows {
+                let mut at = start[i];
+                for k in next.iter_mut() {
+                    let c = k[i] as usize;
+                    k[i] = at as u32;
+                    at += c;
+                }
+                start[i + 1] = at;
+            }
+            debug_assert_eq!(start[nrows], len);
+            let out = Scatter {
+                indices: indices.as_mut_ptr(),
+                values: values.as_mut_ptr(),
+            };
+            entries
+                .par_chunks(part)
+                .zip(next.par_iter_mut())
+                .for_each(|(c, next)| out.scatter(c, next));
+            start
+        };
         drop(entries);
-        // Sort each row by column (stably), sum repeats in input order and
-        // drop zero cells, compacting in place.
-        let mut indptr = vec![0usize; nrows + 1];
-        let mut out = 0;
-        for i in 0..nrows {
-            let (a, b) = (start[i], start[i + 1]);
-            sort_row(&mut indices[a..b], &mut values[a..b]);
-            let mut k = a;
-            while k < b {
-                let j = indices[k];
-                let mut w = values[k];
-                k += 1;
-                while k < b && indices[k] == j {
-                    w = w + values[k];
-                    k += 1;
-                }
-                // Drop zero cells (a zero weight, or zeros summed).
-                if !w.is_zero() {
-                    indices[out] = j;
-                    values[out] = w;
-                    out += 1;
-                }
+        // Sort and compact blocks of consecutive rows with about equal
+        // numbers of cells, one per thread.
+        let mut bounds = vec![0usize];
+        for p in 1..parts {
+            let r = start.partition_point(|&s| s < len * p / parts).min(nrows);
+            if r > *bounds.last().unwrap_or(&0) {
+                bounds.push(r);
             }
-            indptr[i + 1] = out;
+        }
+        if nrows > *bounds.last().unwrap_or(&0) {
+            bounds.push(nrows);
+        }
+        let mut indptr = vec![0usize; nrows + 1];
+        let mut jobs = Vec::with_capacity(bounds.len());
+        {
+            let (mut idx, mut val, mut ptr) = (&mut indices[..], &mut values[..], &mut indptr[1..]);
+            for w in bounds.windows(2) {
+                let (r0, r1) = (w[0], w[1]);
+                let size = start[r1] - start[r0];
+                let (bi, rest_i) = idx.split_at_mut(size);
+                let (bv, rest_v) = val.split_at_mut(size);
+                let (bp, rest_p) = ptr.split_at_mut(r1 - r0);
+                (idx, val, ptr) = (rest_i, rest_v, rest_p);
+                jobs.push((r0, r1, bi, bv, bp));
+            }
+        }
+        let start = &start;
+        let kept: Vec<usize> = if jobs.len() == 1 {
+            jobs.into_iter()
+                .map(|(r0, r1, idx, val, ptr)| row_block(start, (r0, r1), idx, val, ptr))
+                .collect()
+        } else {
+            jobs.into_par_iter()
+                .map(|(r0, r1, idx, val, ptr)| row_block(start, (r0, r1), idx, val, ptr))
+                .collect()
+        };
+        // Close the gaps left by dropped cells, block by block.
+        let mut out = 0;
+        for (w, &k) in bounds.windows(2).zip(&kept) {
+            let (r0, r1) = (w[0], w[1]);
+            let from = start[r0];
+            if from != out {
+                indices.copy_within(from..from + k, out);
+                values.copy_within(from..from + k, out);
+            }
+            for p in &mut indptr[r0 + 1..=r1] {
+                *p += out;
+            }
+            out += k;
         }
         indices.truncate(out);
         values.truncate(out);
@@ -267,6 +357,99 @@ impl Csr<f64> {
     pub(crate) fn lists_mut(&mut self) -> (&[usize], &mut [u32]) {
         (&self.indptr, &mut self.indices)
     }
+}
+
+/// Fewest triplets that [`Csr::from_counted_triplets`] splits over threads.
+const PARALLEL_TRIPLETS: usize = 1 << 16;
+
+/// Parts [`Csr::from_counted_triplets`] cuts `len` triplets into: one
+/// below [`PARALLEL_TRIPLETS`] or from 2^32 triplets on (positions are kept
+/// in 32 bits), else one per thread, at most 8 (each part holds a count per
+/// row).
+fn triplet_parts(len: usize) -> usize {
+    if len < PARALLEL_TRIPLETS || len > u32::MAX as usize {
+        1
+    } else {
+        rayon::current_num_threads().clamp(1, 8)
+    }
+}
+
+/// The kept arrays of [`Csr::from_counted_triplets`], written by several
+/// threads at once, each at its own positions.
+struct Scatter<T> {
+    indices: *mut u32,
+    values: *mut T,
+}
+
+// SAFETY: the threads write through these pointers at disjoint positions
+// (see `Scatter::scatter`), and nothing reads the arrays until all have
+// finished.
+unsafe impl<T: Send> Send for Scatter<T> {}
+unsafe impl<T: Send> Sync for Scatter<T> {}
+
+impl<T: Copy> Scatter<T> {
+    /// Writes one part's triplets, in order: a triplet of row `i` at
+    /// `next[i]`, which then moves on. The positions of each part and row
+    /// are a range of their own, counted for exactly that part's triplets
+    /// of that row and within the arrays.
+    fn scatter(&self, part: &[(u32, u32, T)], next: &mut [u32]) {
+        const AHEAD: usize = 16;
+        for (k, &(i, j, w)) in part.iter().enumerate() {
+            if let Some(&(r, _, _)) = part.get(k + AHEAD) {
+                let s = next[r as usize] as usize;
+                prefetch_write(self.indices.wrapping_add(s));
+                prefetch_write(self.values.wrapping_add(s));
+            }
+            let slot = &mut next[i as usize];
+            let at = *slot as usize;
+            // SAFETY: `at` lies in this part's range for row `i`, inside
+            // the arrays and written by no other thread (see above).
+            unsafe {
+                *self.indices.add(at) = j;
+                *self.values.add(at) = w;
+            }
+            *slot += 1;
+        }
+    }
+}
+
+/// One block of rows `r0..r1` of [`Csr::from_counted_triplets`], scattered
+/// into `idx` and `val` (the block's part of the kept arrays,
+/// `start[r0]..start[r1]`): sorts each row by column (stably), sums
+/// repeats in input order and drops zero cells, compacting within the
+/// block. Writes each row's end, relative to the block, into `ptr` and
+/// returns the number of cells kept.
+fn row_block<T: Weight>(
+    start: &[usize],
+    (r0, r1): (usize, usize),
+    idx: &mut [u32],
+    val: &mut [T],
+    ptr: &mut [usize],
+) -> usize {
+    let base = start[r0];
+    let mut out = 0;
+    for (i, end) in (r0..r1).zip(ptr.iter_mut()) {
+        let (a, b) = (start[i] - base, start[i + 1] - base);
+        sort_row(&mut idx[a..b], &mut val[a..b]);
+        let mut k = a;
+        while k < b {
+            let j = idx[k];
+            let mut w = val[k];
+            k += 1;
+            while k < b && idx[k] == j {
+                w = w + val[k];
+                k += 1;
+            }
+            // Drop zero cells (a zero weight, or zeros summed).
+            if !w.is_zero() {
+                idx[out] = j;
+                val[out] = w;
+                out += 1;
+            }
+        }
+        *end = out;
+    }
+    out
 }
 
 /// Sorts one row's cells by column, stably (equal columns keep their
@@ -454,22 +637,37 @@ impl<T: Weight> Network<T> {
         check_shape(m, n)?;
         debug_assert!(check_labels("row", &row_labels, m).is_ok());
         debug_assert!(check_labels("column", &col_labels, n).is_ok());
-        for &(i, j, w) in &entries {
+        let problem = |&(i, j, w): &(u32, u32, T)| -> Option<Error> {
             if i as usize >= m || j as usize >= n {
-                return Err(Error::InvalidArgument(format!(
+                return Some(Error::InvalidArgument(format!(
                     "cell ({i}, {j}) lies outside the {m} x {n} network"
                 )));
             }
-            if let Some(problem) = weight_problem(w) {
-                return Err(Error::BadWeight {
-                    row: row_labels[i as usize].clone(),
-                    col: col_labels[j as usize].clone(),
-                    value: w.to_string(),
-                    problem,
-                });
+            weight_problem(w).map(|problem| Error::BadWeight {
+                row: row_labels[i as usize].clone(),
+                col: col_labels[j as usize].clone(),
+                value: w.to_string(),
+                problem,
+            })
+        };
+        let counts = if triplet_parts(entries.len()) == 1 {
+            // The rows' triplets are counted in the checking pass.
+            let mut counts = vec![0usize; m + 1];
+            for e in &entries {
+                if let Some(err) = problem(e) {
+                    return Err(err);
+                }
+                counts[e.0 as usize + 1] += 1;
             }
-        }
-        let csr = Csr::from_triplets(m, n, entries);
+            Some(counts)
+        } else {
+            // Checked on all threads; the first bad triplet is reported.
+            if let Some(err) = entries.par_iter().find_map_first(problem) {
+                return Err(err);
+            }
+            None
+        };
+        let csr = Csr::from_counted_triplets(m, n, entries, counts);
         let cells_total = (m as u128) * (n as u128);
         let sparse = cells_total > tolerance::SPARSE_MIN_CELLS
             && (csr.links() as f64) < tolerance::SPARSE_MAX_FILL * cells_total as f64;
@@ -894,6 +1092,114 @@ mod tests {
             assert_eq!(csr.indices(), &indices[..]);
             let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
             assert_eq!(bits, values);
+        }
+    }
+
+    /// The same brute-force rule on inputs large enough to be split over
+    /// threads (rows built in blocks, see `row_block`): every thread count
+    /// gives the cells of the rule bit for bit, with short rows, long rows
+    /// (the library sort), empty rows and zero sums.
+    #[test]
+    fn triplets_in_row_blocks_match_brute_force_for_any_thread_count() {
+        use rand::{Rng, SeedableRng};
+        let weights = [0.0, 0.1, 0.2, 1.0, -1.0, 1e16, -1e16, 3.0];
+        let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(11);
+        for (m, n, len) in [(3000, 400, 100_000), (20, 60, 70_000), (200_000, 9, 80_000)] {
+            let entries: Vec<(u32, u32, f64)> = (0..len)
+                .map(|_| {
+                    (
+                        rng.random_range(0..m as u32),
+                        rng.random_range(0..n as u32),
+                        weights[rng.random_range(0..weights.len())],
+                    )
+                })
+                .collect();
+            // The rule: cells in row-major order, each the sum of its
+            // triplets in input order, zero sums dropped.
+            let mut order: Vec<usize> = (0..len).collect();
+            order.sort_by_key(|&k| (entries[k].0, entries[k].1, k));
+            let (mut indptr, mut indices, mut values) = (vec![0usize; m + 1], vec![], vec![]);
+            let mut k = 0;
+            while k < len {
+                let (i, j, mut w) = entries[order[k]];
+                k += 1;
+                while k < len && (entries[order[k]].0, entries[order[k]].1) == (i, j) {
+                    w += entries[order[k]].2;
+                    k += 1;
+                }
+                if w != 0.0 {
+                    indices.push(j);
+                    values.push(w.to_bits());
+                    indptr[i as usize + 1] += 1;
+                }
+            }
+            for i in 0..m {
+                indptr[i + 1] += indptr[i];
+            }
+            for threads in 1..=4 {
+                let pool = rayon::ThreadPoolBuilder::new()
+                    .num_threads(threads)
+                    .build()
+                    .unwrap();
+                let csr = pool.install(|| Csr::from_triplets(m, n, entries.clone()));
+                assert_eq!(csr.indptr(), &indptr[..], "{m} x {n}, {threads} threads");
+                assert_eq!(csr.indices(), &indices[..], "{m} x {n}, {threads} threads");
+                let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
+                assert_eq!(bits, values, "{m} x {n}, {threads} threads");
+            }
+        }
+    }
+
+    /// Large triplet sets are checked on all threads; the error is the
+    /// first bad triplet's, as on one thread.
+    #[test]
+    fn first_bad_triplet_is_reported_for_any_thread_count() {
+        let labels = |p: &str, k: usize| (0..k).map(|i| format!("{p}{i}")).collect::<Vec<_>>();
+        let mut entries: Vec<(u32, u32, f64)> = (0..100_000u32)
+            .map(|k| (k % 300, (k * 7) % 200, 1.0 + (k % 5) as f64))
+            .collect();
+        entries[70_000].2 = f64::NAN;
+        entries[40_000].2 = -2.0;
+        entries[90_000].0 = 300; // outside the 300 rows
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let err = pool
+                .install(|| {
+                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
+                })
+                .unwrap_err();
+            let (i, j) = (40_000 % 300, (40_000 * 7) % 200);
+            assert_eq!(
+                err.to_string(),
+                Error::BadWeight {
+                    row: format!("r{i}"),
+                    col: format!("c{j}"),
+                    value: "-2".into(),
+                    problem: "negative",
+                }
+                .to_string(),
+                "{threads} threads"
+            );
+        }
+        entries[40_000].2 = 1.0;
+        entries[70_000].2 = 1.0;
+        for threads in 1..=3 {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            let err = pool
+                .install(|| {
+                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
+                })
+                .unwrap_err();
+            assert!(
+                err.to_string().contains("(300, "),
+                "{threads} threads: {err}"
+            );
         }
     }
 
