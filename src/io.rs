@@ -1287,9 +1287,16 @@ mod tests {
             "\n",
             "x_longer_than_eight",
             "",
+            "\"a,b\"",
+            "\"Apis mellifera\"",
+            "\"\"",
+            " \"q\" ",
+            "\"x\"\"y\"",
+            "\"",
         ];
         let mut seed = 0x2545_F491_4F6C_DD1Du64;
-        for _ in 0..20_000 {
+        let mut quoted_taken = 0;
+        for _ in 0..60_000 {
             let mut text = String::new();
             seed ^= seed << 13;
             seed ^= seed >> 7;
@@ -1319,7 +1326,10 @@ mod tests {
                             assert_eq!(w, "", "{text:?}");
                         }
                         assert_eq!(rec, want, "{text:?} {delim}");
+                        assert!(rec.iter().all(|f| matches!(f, Cow::Borrowed(_))));
                         assert_eq!((quick.pos, quick.line), (slow.pos, slow.line), "{text:?}");
+                        quoted_taken +=
+                            usize::from(text.split('\n').next().unwrap_or("").contains('"'));
                     }
                     None => {
                         assert_eq!((quick.pos, quick.line), (0, 1), "{text:?}");
@@ -1331,6 +1341,77 @@ mod tests {
                         assert!(!plain, "{text:?} {delim} {rec:?}");
                     }
                 }
+            }
+        }
+        // Lines with quotes were taken too (the check above is not vacuous
+        // for them).
+        assert!(quoted_taken > 300, "{quoted_taken}");
+    }
+
+    /// Lines of two or three fields each quoted or not, without quotes or
+    /// line breaks inside, non-empty labels, spaces around: every one is
+    /// taken by the one-scan path, with the general splitter's fields.
+    #[test]
+    fn simply_quoted_edge_lines_are_taken() {
+        let labels = [
+            "a",
+            "Bombus terrestris",
+            "é",
+            "a,b",
+            "x;y",
+            "t\tu",
+            "12",
+            "r\rs",
+        ];
+        let mut seed = 0x9E37_79B9_7F4A_7C15u64;
+        for _ in 0..20_000 {
+            seed ^= seed << 13;
+            seed ^= seed >> 7;
+            seed ^= seed << 17;
+            let mut s = seed;
+            let mut pick = |k: u64| {
+                s = s.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1);
+                (s >> 33) % k
+            };
+            let fields = 2 + pick(2) as usize;
+            for delim in [b',', b'\t', b';'] {
+                let mut text = String::new();
+                for f in 0..fields {
+                    if f > 0 {
+                        text.push(delim as char);
+                    }
+                    let label = labels[pick(labels.len() as u64) as usize];
+                    let pad = [" ", "", ""][pick(3) as usize];
+                    if label
+                        .bytes()
+                        .any(|b| b == delim || b == b'\r' || b == b'\t')
+                        || pick(2) == 0
+                    {
+                        text.push_str(&format!("{pad}\"{label}\"{pad}"));
+                    } else {
+                        text.push_str(label);
+                    }
+                }
+                let end = ["\n", "\r\n", ""][pick(3) as usize];
+                if !end.is_empty() {
+                    text.push_str(end);
+                    text.push_str("next,line\n");
+                }
+                let mut quick = Fields::new(&text, delim, Path::new("t"));
+                let mut slow = Fields::new(&text, delim, Path::new("t"));
+                let mut rec = Vec::new();
+                let (line, r, c, w) = quick_edge(&mut quick).unwrap_or_else(|| panic!("{text:?}"));
+                assert_eq!(
+                    slow.next_nonblank(&mut rec).unwrap(),
+                    Some(line),
+                    "{text:?}"
+                );
+                let mut want = vec![r, c];
+                if fields == 3 {
+                    want.push(w);
+                }
+                assert_eq!(rec, want, "{text:?}");
+                assert_eq!((quick.pos, quick.line), (slow.pos, slow.line), "{text:?}");
             }
         }
     }

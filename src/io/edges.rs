@@ -276,14 +276,16 @@ fn trim_spaces<'a>(fields: &Fields<'a>, s: &'a str) -> &'a str {
 }
 
 /// The common edge line, read in one scan: the line at the reader's
-/// position when it holds no quote and two or three fields whose first two
-/// are not empty once trimmed. Returns its line, row label, column label
-/// and weight field (empty when absent) and moves past it; for any other
-/// line (blank, quoted, too few or too many fields, an empty label)
-/// returns `None` and leaves the reader where it was, for
+/// position when it holds two or three fields whose first two are not
+/// empty once trimmed, and no quote or only simply quoted fields (see
+/// [`quoted_edge`]). Returns its line, row label, column label and weight
+/// field (empty when absent) and moves past it; for any other line (blank,
+/// with a quote escaped or spanning lines, too few or too many fields, an
+/// empty label) returns `None` and leaves the reader where it was, for
 /// [`Fields::next_record`], which yields the same fields for the lines
 /// taken here. The line end, the delimiters and quotes are found eight
-/// bytes at a time (see [`byte_mask`]).
+/// bytes at a time (see [`byte_mask`]); a line with a quote goes to
+/// [`quoted_edge`].
 #[inline]
 pub(super) fn quick_edge<'a>(
     fields: &mut Fields<'a>,
@@ -304,7 +306,7 @@ pub(super) fn quick_edge<'a>(
                 m &= m - 1;
                 match bytes[k] {
                     b'\n' => break 'scan k,
-                    b'"' => return None,
+                    b'"' => return quoted_edge(fields),
                     _ if ncut == 2 => return None,
                     _ => {
                         cuts[ncut] = k;
@@ -317,7 +319,9 @@ pub(super) fn quick_edge<'a>(
             for (k, &b) in bytes.iter().enumerate().skip(p) {
                 if b == b'\n' {
                     break 'scan k;
-                } else if b == b'"' || (b == delim && ncut == 2) {
+                } else if b == b'"' {
+                    return quoted_edge(fields);
+                } else if b == delim && ncut == 2 {
                     return None;
                 } else if b == delim {
                     cuts[ncut] = k;
@@ -349,6 +353,72 @@ pub(super) fn quick_edge<'a>(
         fields.pos = end;
     }
     Some((line, row, col, weight))
+}
+
+/// [`quick_edge`] for a line holding a quote, byte by byte: taken when
+/// each field is either unquoted without a quote, or quoted (after spaces)
+/// with neither a quote nor a line break inside and only spaces between
+/// the closing quote and the delimiter or line end, so that every field is
+/// a slice of the text as [`Fields::next_record`] reads it (a field with
+/// `""` inside becomes a new string there, and one spanning lines moves
+/// the line count: both are left to it, as are the lines it refuses).
+fn quoted_edge<'a>(fields: &mut Fields<'a>) -> Option<(usize, &'a str, &'a str, &'a str)> {
+    let text = fields.text;
+    let b = text.as_bytes();
+    let delim = fields.delim;
+    let mut p = fields.pos;
+    let mut out = [""; 3];
+    let mut n = 0;
+    let end = loop {
+        if n == 3 {
+            return None;
+        }
+        while p < b.len() && fields.is_space(b[p]) {
+            p += 1;
+        }
+        if b.get(p) == Some(&b'"') {
+            let open = p + 1;
+            let close = open + b[open..].iter().position(|&x| x == b'"' || x == b'\n')?;
+            if b[close] != b'"' || b.get(close + 1) == Some(&b'"') {
+                return None;
+            }
+            out[n] = &text[open..close];
+            p = close + 1;
+            while p < b.len() && fields.is_space(b[p]) {
+                p += 1;
+            }
+        } else {
+            let start = p;
+            while p < b.len() && b[p] != delim && b[p] != b'\n' {
+                if b[p] == b'"' {
+                    return None;
+                }
+                p += 1;
+            }
+            let mut e = p;
+            while e > start && fields.is_space(b[e - 1]) {
+                e -= 1;
+            }
+            out[n] = &text[start..e];
+        }
+        n += 1;
+        match b.get(p) {
+            Some(&x) if x == delim => p += 1,
+            Some(b'\n') | None => break p,
+            Some(_) => return None, // text after a closing quote
+        }
+    };
+    if n < 2 || out[0].is_empty() || out[1].is_empty() {
+        return None;
+    }
+    let line = fields.line;
+    if end < b.len() {
+        fields.pos = end + 1;
+        fields.line += 1;
+    } else {
+        fields.pos = end;
+    }
+    Some((line, out[0], out[1], out[2]))
 }
 
 /// The edge lines of a file, with labels indexed.
