@@ -66,7 +66,12 @@ impl<T: Weight> Csr<T> {
     /// input order and are summed in it.
     ///
     /// Cost: `O(m + L + sum over rows of d log d)` time (`d` a row's
-    /// triplets), `O(m + L)` memory.
+    /// triplets), `O(m + L)` memory; from 2^16 triplets on, spread over the
+    /// threads of the current rayon pool (same result for any number).
+    ///
+    /// The triplets are not validated: a row index of `nrows` or more
+    /// panics, and column indices must be below `ncols`
+    /// ([`Network::from_triplets`] checks both and the weights).
     pub fn from_triplets(nrows: usize, ncols: usize, entries: Vec<(u32, u32, T)>) -> Self {
         Self::from_counted_triplets(nrows, ncols, entries, None)
     }
