@@ -166,64 +166,8 @@ fn list_chain_follows_the_bit_chain() {
 }
 
 // ---------------------------------------------------------------------------
-// Chi-square and Kolmogorov-Smirnov, written here from their definitions.
-
-/// `ln Gamma(a)` for `a` a positive multiple of 1/2, exactly from
-/// `Gamma(a + 1) = a Gamma(a)`, `Gamma(1) = 1`, `Gamma(1/2) = sqrt(pi)`.
-fn ln_gamma_half(a: f64) -> f64 {
-    let (mut x, mut acc) = if (a * 2.0).round() as i64 % 2 == 0 {
-        (1.0, 0.0)
-    } else {
-        (0.5, 0.5 * std::f64::consts::PI.ln())
-    };
-    while x < a - 1e-9 {
-        acc += x.ln();
-        x += 1.0;
-    }
-    acc
-}
-
-/// Regularized lower incomplete gamma by its power series (Abramowitz &
-/// Stegun 1964, 6.5.29).
-fn gamma_p(a: f64, x: f64) -> f64 {
-    if x <= 0.0 {
-        return 0.0;
-    }
-    if x > 500.0 + 10.0 * a {
-        return 1.0;
-    }
-    let (mut term, mut sum, mut k) = (1.0, 1.0, 0.0);
-    while term > 1e-17 * sum {
-        k += 1.0;
-        term *= x / (a + k);
-        sum += term;
-    }
-    (a * x.ln() - x - ln_gamma_half(a + 1.0)).exp() * sum
-}
-
-/// Upper tail of a chi-square variable with `df` degrees of freedom.
-fn chi2_sf(x: f64, df: usize) -> f64 {
-    1.0 - gamma_p(df as f64 / 2.0, x / 2.0)
-}
-
-/// Table values (Abramowitz & Stegun 1964, Table 26.8): the 95 % points
-/// 3.841 (df 1) and 18.307 (df 10).
-#[test]
-fn chi_square_tail_matches_tables() {
-    assert!((chi2_sf(3.841, 1) - 0.05).abs() < 2e-4);
-    assert!((chi2_sf(18.307, 10) - 0.05).abs() < 2e-4);
-}
-
-/// Pearson's chi-square p-value of counts against probabilities.
-fn chi_square(counts: &[usize], probs: &[f64]) -> f64 {
-    let n: usize = counts.iter().sum();
-    let stat: f64 = counts
-        .iter()
-        .zip(probs)
-        .map(|(&c, &p)| (c as f64 - p * n as f64).powi(2) / (p * n as f64))
-        .sum();
-    chi2_sf(stat, counts.len() - 1)
-}
+// Kolmogorov-Smirnov, written here from its definition (chi-square:
+// tests/common/mod.rs).
 
 /// The two-sample Kolmogorov-Smirnov statistic `D = sup |F1 - F2|`.
 fn ks_statistic(a: &[f64], b: &[f64]) -> f64 {

@@ -22,6 +22,15 @@ fn network(seed: u64, m: usize, n: usize) -> (common::Mat, Network<f64>) {
     (w, net)
 }
 
+/// The network of [`network`] written as a matrix file named `name` in the
+/// scratch folder; its path.
+fn network_file(seed: u64, m: usize, n: usize, name: &str) -> String {
+    let (w, _) = network(seed, m, n);
+    let f = scratch(name);
+    write_matrix_file(&f, &w);
+    f.to_str().unwrap().to_string()
+}
+
 /// The run's temperature values are those of `temperature` with the same
 /// restarts on the same draws (draw `k` regenerated from `draw_rng(seed, k)`),
 /// and the setting changes some draw's packed value: it is not ignored.
@@ -92,10 +101,8 @@ fn refused(args: &[&str]) -> String {
 /// draws; it is absent (null) when temperature is not tested.
 #[test]
 fn restarts_are_recorded_in_every_output() {
-    let (w, _) = network(5, 9, 11);
-    let f = scratch("rec.csv");
-    write_matrix_file(&f, &w);
-    let f = f.to_str().unwrap();
+    let f = network_file(5, 9, 11, "rec.csv");
+    let f = f.as_str();
     let base = [
         "null",
         f,
@@ -198,10 +205,8 @@ fn reseal(text: &str) -> String {
 /// restarts and not with one run with another number.
 #[test]
 fn missing_restarts_line_reads_as_the_old_default() {
-    let (w, _) = network(9, 8, 10);
-    let f = scratch("old.csv");
-    write_matrix_file(&f, &w);
-    let f = f.to_str().unwrap();
+    let f = network_file(9, 8, 10, "old.csv");
+    let f = f.as_str();
     let part = |i: usize, restarts: &str| {
         let p = scratch(&format!("old-{i}-{restarts}.tsv"));
         let shard = format!("{i}/2");
@@ -261,10 +266,8 @@ fn missing_restarts_line_reads_as_the_old_default() {
 /// tested, and ignores the option when it is not.
 #[test]
 fn merge_refuses_differing_restarts() {
-    let (w, _) = network(12, 10, 9);
-    let f = scratch("mix.csv");
-    write_matrix_file(&f, &w);
-    let f = f.to_str().unwrap();
+    let f = network_file(12, 10, 9, "mix.csv");
+    let f = f.as_str();
     let part = |index: &str, i: usize, restarts: &str| {
         let p = scratch(&format!("mix-{index}-{i}-{restarts}.tsv"));
         let shard = format!("{i}/2");
@@ -358,10 +361,8 @@ fn huge_restarts_are_refused() {
 /// as `merge`), and continues those made with the same.
 #[test]
 fn resume_checks_the_restarts() {
-    let (w, _) = network(14, 8, 9);
-    let f = scratch("resume.csv");
-    write_matrix_file(&f, &w);
-    let f = f.to_str().unwrap();
+    let f = network_file(14, 8, 9, "resume.csv");
+    let f = f.as_str();
     let saved = scratch("resume-draws.tsv");
     let again = scratch("resume-again.tsv");
     let run = |restarts: &str, extra: &[&str]| {

@@ -171,25 +171,43 @@ impl LabelIndex {
 const LOOKUP_BATCH: usize = 256;
 
 /// Turns a batch of `(row label, column label, weight)` into entries, in
-/// order. Label lookups are memory-bound (one cache miss each on a large
-/// table), so the slots of the whole batch are first prefetched in one loop
-/// (see [`LabelIndex::peek`]), which the processor overlaps, then looked up.
+/// order (see [`intern_hashed`]).
 fn resolve_batch(
     batch: &mut Vec<(&str, &str, f64)>,
     chunk: &mut EdgeLines,
     source: &Path,
 ) -> Result<()> {
     let mut hashes = [(0u64, 0u64); LOOKUP_BATCH];
-    let mut touched = 0u32;
     for (h, &(r, c, _)) in hashes.iter_mut().zip(batch.iter()) {
         *h = (label_hash(r.as_bytes()), label_hash(c.as_bytes()));
-        touched ^= chunk.rows.peek(h.0) ^ chunk.cols.peek(h.1);
+    }
+    let lines = hashes
+        .iter()
+        .zip(batch.iter())
+        .map(|(&(hr, hc), &(r, c, w))| (r, c, w, hr, hc));
+    intern_hashed(lines, chunk, source)?;
+    batch.clear();
+    Ok(())
+}
+
+/// Interns lines whose labels' hashes are known, in order, and adds their
+/// entries. Label lookups are memory-bound (one cache miss each on a large
+/// table), so the slots of all the lines (a batch of at most
+/// [`LOOKUP_BATCH`]) are first prefetched in one loop (see
+/// [`LabelIndex::peek`]), which the processor overlaps, then looked up.
+fn intern_hashed<'a>(
+    lines: impl Iterator<Item = Scanned<'a>> + Clone,
+    chunk: &mut EdgeLines,
+    source: &Path,
+) -> Result<()> {
+    let mut touched = 0u32;
+    for (_, _, _, hr, hc) in lines.clone() {
+        touched ^= chunk.rows.peek(hr) ^ chunk.cols.peek(hc);
     }
     std::hint::black_box(touched);
-    for (h, &(r, c, w)) in hashes.iter().zip(batch.iter()) {
-        add_line(chunk, (r, h.0), (c, h.1), w, source)?;
+    for (r, c, w, hr, hc) in lines {
+        add_line(chunk, (r, hr), (c, hc), w, source)?;
     }
-    batch.clear();
     Ok(())
 }
 
@@ -367,15 +385,19 @@ fn quoted_edge<'a>(fields: &mut Fields<'a>) -> Option<(usize, &'a str, &'a str, 
     let b = text.as_bytes();
     let delim = fields.delim;
     let mut p = fields.pos;
+    let skip_spaces = |mut p: usize| {
+        while p < b.len() && fields.is_space(b[p]) {
+            p += 1;
+        }
+        p
+    };
     let mut out = [""; 3];
     let mut n = 0;
     let end = loop {
         if n == 3 {
             return None;
         }
-        while p < b.len() && fields.is_space(b[p]) {
-            p += 1;
-        }
+        p = skip_spaces(p);
         if b.get(p) == Some(&b'"') {
             let open = p + 1;
             let close = open + b[open..].iter().position(|&x| x == b'"' || x == b'\n')?;
@@ -383,10 +405,7 @@ fn quoted_edge<'a>(fields: &mut Fields<'a>) -> Option<(usize, &'a str, &'a str, 
                 return None;
             }
             out[n] = &text[open..close];
-            p = close + 1;
-            while p < b.len() && fields.is_space(b[p]) {
-                p += 1;
-            }
+            p = skip_spaces(close + 1);
         } else {
             let start = p;
             while p < b.len() && b[p] != delim && b[p] != b'\n' {
@@ -449,6 +468,18 @@ const PIPELINE_DEPTH: usize = 4;
 /// of the common form; a file full of such lines is read by one thread).
 const PIPELINE_STARTS: usize = 64;
 
+/// The weight of a common edge line read without [`Fields::value`]: 1 for
+/// an empty field, the value of a plain decimal (what `Fields::value`
+/// returns for it, its first step; see [`plain_decimal`]), else `None`.
+#[inline]
+fn quick_weight(w: &str) -> Option<f64> {
+    if w.is_empty() {
+        Some(1.0)
+    } else {
+        plain_decimal(w.as_bytes())
+    }
+}
+
 /// A common edge line scanned ahead: row label, column label, weight and
 /// the labels' [`label_hash`]es.
 type Scanned<'a> = (&'a str, &'a str, f64, u64, u64);
@@ -491,12 +522,7 @@ fn scan_lines<'a>(
                 done = true;
                 break;
             };
-            let weight = if w.is_empty() {
-                Some(1.0)
-            } else {
-                plain_decimal(w.as_bytes())
-            };
-            let Some(weight) = weight else {
+            let Some(weight) = quick_weight(w) else {
                 (fields.pos, fields.line) = (pos, line);
                 done = true;
                 break;
@@ -522,18 +548,11 @@ fn scan_lines<'a>(
     }
 }
 
-/// Interns lines scanned ahead, in order, prefetching each batch's slots
-/// first (as [`resolve_batch`] does).
+/// Interns lines scanned ahead, in order, a batch of [`LOOKUP_BATCH`] at a
+/// time (see [`intern_hashed`]).
 fn resolve_scanned(lines: &[Scanned<'_>], chunk: &mut EdgeLines, source: &Path) -> Result<()> {
     for batch in lines.chunks(LOOKUP_BATCH) {
-        let mut touched = 0u32;
-        for &(_, _, _, hr, hc) in batch {
-            touched ^= chunk.rows.peek(hr) ^ chunk.cols.peek(hc);
-        }
-        std::hint::black_box(touched);
-        for &(r, c, w, hr, hc) in batch {
-            add_line(chunk, (r, hr), (c, hc), w, source)?;
-        }
+        intern_hashed(batch.iter().copied(), chunk, source)?;
     }
     Ok(())
 }
@@ -655,12 +674,9 @@ where
         }
         if !first {
             if let Some((line, r, c, w)) = quick_edge(fields) {
-                // A plain decimal is what `Fields::value` would return for
-                // it (its first step) unless `;` delimits, where decimal
-                // marks are tracked.
-                let weight = match plain_decimal(w.as_bytes()) {
-                    _ if w.is_empty() => 1.0,
-                    Some(x) if !decimal_comma => x,
+                // Unless `;` delimits, where decimal marks are tracked.
+                let weight = match quick_weight(w) {
+                    Some(x) if w.is_empty() || !decimal_comma => x,
                     _ => fields.value(w, line, 3, "a missing or empty weight counts as 1")?,
                 };
                 batch.push((r, c, weight));

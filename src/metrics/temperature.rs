@@ -524,6 +524,17 @@ impl UnexpectednessTable {
         self.absent[i * self.n + j]
     }
 
+    /// `u` of a presence minus `u` of an absence at every position,
+    /// row-major: what a one at that position adds to `sum(u)` (the
+    /// packing's cost tables are built from it).
+    fn deltas(&self) -> Vec<f64> {
+        self.present
+            .iter()
+            .zip(&self.absent)
+            .map(|(p, a)| p - a)
+            .collect()
+    }
+
     /// `sum(u)` of `b` with position `(i, j)` holding cell
     /// `(rows[i], cols[j])`, summed row by row. Cost `O(m n)`.
     pub fn total(&self, b: &BitMatrix, rows: &[usize], cols: &[usize]) -> f64 {
@@ -1025,12 +1036,7 @@ impl<'a> Packer<'a> {
                 col_ones[j].push(i);
             }
         }
-        let delta: Vec<f64> = table
-            .present
-            .iter()
-            .zip(&table.absent)
-            .map(|(p, a)| p - a)
-            .collect();
+        let delta = table.deltas();
         let mut delta_t = vec![0.0; m * n];
         for i in 0..m {
             for j in 0..n {

@@ -77,18 +77,17 @@ impl<T: Weight> Csr<T> {
     }
 
     /// [`from_triplets`](Self::from_triplets), with the triplets of each row
-    /// counted beforehand when `counts` is given: `counts[i + 1]` holds the
-    /// number of triplets of row `i` (`counts[0]` is 0, `counts.len()` is
-    /// `nrows + 1`), so that a caller already passing over the triplets
-    /// saves a pass when they are ordered on one thread.
+    /// counted beforehand when `counts` is given (`counts[i]` for row `i`,
+    /// `nrows` entries), so that a caller already passing over the
+    /// triplets saves a pass when they are ordered on one thread.
     ///
-    /// With several threads (and at least [`PARALLEL_TRIPLETS`] triplets),
-    /// the triplets are cut into consecutive parts, one per thread; each
-    /// part's rows are counted on its thread, part `t`'s triplets of row
-    /// `i` go after those of parts before `t` (so each row keeps input
-    /// order), each part is scattered on its thread, and rows are then
-    /// sorted and compacted in blocks of about equal size, one per thread.
-    /// Every row is built exactly as on one thread.
+    /// The triplets are cut into consecutive parts, one per thread (one
+    /// below [`PARALLEL_TRIPLETS`]); each part's rows are counted on its
+    /// thread, part `t`'s triplets of row `i` go after those of parts
+    /// before `t` (so each row keeps input order), each part is scattered
+    /// on its thread, and rows are then sorted and compacted in blocks of
+    /// about equal size, one per part. Every row is built exactly as with
+    /// one part.
     pub(crate) fn from_counted_triplets(
         nrows: usize,
         ncols: usize,
@@ -97,70 +96,47 @@ impl<T: Weight> Csr<T> {
     ) -> Self {
         let len = entries.len();
         let parts = triplet_parts(len);
+        let part = len.div_ceil(parts).max(1);
+        let count = |c: &[(u32, u32, T)]| {
+            let mut k = vec![0usize; nrows];
+            for &(i, _, _) in c {
+                k[i as usize] += 1;
+            }
+            k
+        };
+        // Per part and row: the count, then where the part's next triplet
+        // of the row goes.
+        let mut next: Vec<Vec<usize>> = match counts {
+            Some(c) if parts == 1 => vec![c],
+            _ if parts == 1 => vec![count(&entries)],
+            _ => entries.par_chunks(part).map(count).collect(),
+        };
+        let mut start = vec![0usize; nrows + 1];
+        for i in 0..nrows {
+            let mut at = start[i];
+            for k in next.iter_mut() {
+                let c = k[i];
+                k[i] = at;
+                at += c;
+            }
+            start[i + 1] = at;
+        }
+        debug_assert_eq!(start[nrows], len);
         let mut indices = vec![0u32; len];
         let mut values: Vec<T> = vec![T::zero(); len];
-        let start = if parts == 1 {
-            let mut start = counts.unwrap_or_else(|| {
-                let mut c = vec![0usize; nrows + 1];
-                for &(i, _, _) in &entries {
-                    c[i as usize + 1] += 1;
-                }
-                c
-            });
-            debug_assert_eq!(start.len(), nrows + 1);
-            for i in 0..nrows {
-                start[i + 1] += start[i];
-            }
-            debug_assert_eq!(start[nrows], len);
-            let mut next = start.clone();
-            const AHEAD: usize = 16;
-            for (k, &(i, j, w)) in entries.iter().enumerate() {
-                if let Some(&(r, _, _)) = entries.get(k + AHEAD) {
-                    let s = next[r as usize];
-                    prefetch_write(indices.as_ptr().wrapping_add(s));
-                    prefetch_write(values.as_ptr().wrapping_add(s));
-                }
-                let slot = &mut next[i as usize];
-                indices[*slot] = j;
-                values[*slot] = w;
-                *slot += 1;
-            }
-            start
+        let out = Scatter {
+            indices: indices.as_mut_ptr(),
+            values: values.as_mut_ptr(),
+        };
+        if parts == 1 {
+            out.scatter(&entries, &mut next[0]);
         } else {
-            let part = len.div_ceil(parts);
-            // Per part and row: the count, then where the part's next
-            // triplet of the row goes (below 2^32: `triplet_parts`).
-            let mut next: Vec<Vec<u32>> = entries
-                .par_chunks(part)
-                .map(|c| {
-                    let mut k = vec![0u32; nrows];
-                    for &(i, _, _) in c {
-                        k[i as usize] += 1;
-                    }
-                    k
-                })
-                .collect();
-            let mut start = vec![0usize; nrows + 1];
-            for i in 0..nrows {
-                let mut at = start[i];
-                for k in next.iter_mut() {
-                    let c = k[i] as usize;
-                    k[i] = at as u32;
-                    at += c;
-                }
-                start[i + 1] = at;
-            }
-            debug_assert_eq!(start[nrows], len);
-            let out = Scatter {
-                indices: indices.as_mut_ptr(),
-                values: values.as_mut_ptr(),
-            };
             entries
                 .par_chunks(part)
                 .zip(next.par_iter_mut())
                 .for_each(|(c, next)| out.scatter(c, next));
-            start
-        };
+        }
+        drop(next);
         drop(entries);
         // Sort and compact blocks of consecutive rows with about equal
         // numbers of cells, one per thread.
@@ -368,19 +344,18 @@ impl Csr<f64> {
 const PARALLEL_TRIPLETS: usize = 1 << 16;
 
 /// Parts [`Csr::from_counted_triplets`] cuts `len` triplets into: one
-/// below [`PARALLEL_TRIPLETS`] or from 2^32 triplets on (positions are kept
-/// in 32 bits), else one per thread, at most 8 (each part holds a count per
-/// row).
+/// below [`PARALLEL_TRIPLETS`], else one per thread, at most 8 (each part
+/// holds a position per row).
 fn triplet_parts(len: usize) -> usize {
-    if len < PARALLEL_TRIPLETS || len > u32::MAX as usize {
+    if len < PARALLEL_TRIPLETS {
         1
     } else {
         rayon::current_num_threads().clamp(1, 8)
     }
 }
 
-/// The kept arrays of [`Csr::from_counted_triplets`], written by several
-/// threads at once, each at its own positions.
+/// The kept arrays of [`Csr::from_counted_triplets`], written by one
+/// thread per part at once, each at its own positions.
 struct Scatter<T> {
     indices: *mut u32,
     values: *mut T,
@@ -397,16 +372,17 @@ impl<T: Copy> Scatter<T> {
     /// `next[i]`, which then moves on. The positions of each part and row
     /// are a range of their own, counted for exactly that part's triplets
     /// of that row and within the arrays.
-    fn scatter(&self, part: &[(u32, u32, T)], next: &mut [u32]) {
+    /// The destination of the triplet 16 ahead is prefetched.
+    fn scatter(&self, part: &[(u32, u32, T)], next: &mut [usize]) {
         const AHEAD: usize = 16;
         for (k, &(i, j, w)) in part.iter().enumerate() {
             if let Some(&(r, _, _)) = part.get(k + AHEAD) {
-                let s = next[r as usize] as usize;
+                let s = next[r as usize];
                 prefetch_write(self.indices.wrapping_add(s));
                 prefetch_write(self.values.wrapping_add(s));
             }
             let slot = &mut next[i as usize];
-            let at = *slot as usize;
+            let at = *slot;
             // SAFETY: `at` lies in this part's range for row `i`, inside
             // the arrays and written by no other thread (see above).
             unsafe {
@@ -657,12 +633,12 @@ impl<T: Weight> Network<T> {
         };
         let counts = if triplet_parts(entries.len()) == 1 {
             // The rows' triplets are counted in the checking pass.
-            let mut counts = vec![0usize; m + 1];
+            let mut counts = vec![0usize; m];
             for e in &entries {
                 if let Some(err) = problem(e) {
                     return Err(err);
                 }
-                counts[e.0 as usize + 1] += 1;
+                counts[e.0 as usize] += 1;
             }
             Some(counts)
         } else {
@@ -1142,17 +1118,22 @@ mod tests {
                 indptr[i + 1] += indptr[i];
             }
             for threads in 1..=4 {
-                let pool = rayon::ThreadPoolBuilder::new()
-                    .num_threads(threads)
-                    .build()
-                    .unwrap();
-                let csr = pool.install(|| Csr::from_triplets(m, n, entries.clone()));
+                let csr = on_threads(threads, || Csr::from_triplets(m, n, entries.clone()));
                 assert_eq!(csr.indptr(), &indptr[..], "{m} x {n}, {threads} threads");
                 assert_eq!(csr.indices(), &indices[..], "{m} x {n}, {threads} threads");
                 let bits: Vec<u64> = csr.values().iter().map(|w| w.to_bits()).collect();
                 assert_eq!(bits, values, "{m} x {n}, {threads} threads");
             }
         }
+    }
+
+    /// `f` run on a pool of `threads` threads.
+    fn on_threads<R: Send>(threads: usize, f: impl FnOnce() -> R + Send) -> R {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(f)
     }
 
     /// Large triplet sets are checked on all threads; the error is the
@@ -1166,16 +1147,14 @@ mod tests {
         entries[70_000].2 = f64::NAN;
         entries[40_000].2 = -2.0;
         entries[90_000].0 = 300; // outside the 300 rows
+        let first_error = |entries: &Vec<(u32, u32, f64)>, threads| {
+            on_threads(threads, || {
+                Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
+            })
+            .unwrap_err()
+        };
         for threads in 1..=3 {
-            let pool = rayon::ThreadPoolBuilder::new()
-                .num_threads(threads)
-                .build()
-                .unwrap();
-            let err = pool
-                .install(|| {
-                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
-                })
-                .unwrap_err();
+            let err = first_error(&entries, threads);
             let (i, j) = (40_000 % 300, (40_000 * 7) % 200);
             assert_eq!(
                 err.to_string(),
@@ -1192,15 +1171,7 @@ mod tests {
         entries[40_000].2 = 1.0;
         entries[70_000].2 = 1.0;
         for threads in 1..=3 {
-            let pool = rayon::ThreadPoolBuilder::new()
-                .num_threads(threads)
-                .build()
-                .unwrap();
-            let err = pool
-                .install(|| {
-                    Network::from_triplets(labels("r", 300), labels("c", 200), entries.clone())
-                })
-                .unwrap_err();
+            let err = first_error(&entries, threads);
             assert!(
                 err.to_string().contains("(300, "),
                 "{threads} threads: {err}"

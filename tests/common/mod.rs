@@ -188,3 +188,64 @@ pub fn reference_contribution(
     let sd = (values.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (r - 1.0)).sqrt();
     (mean, sd, (observed - mean) / sd)
 }
+
+// ---------------------------------------------------------------------------
+// Chi-square distribution, written here from its definition (checked against
+// table values in tests/null_models.rs).
+
+/// `ln Gamma(a)` for `a` a positive multiple of 1/2, exactly from
+/// `Gamma(a + 1) = a Gamma(a)`, `Gamma(1) = 1`, `Gamma(1/2) = sqrt(pi)`.
+pub fn ln_gamma_half(a: f64) -> f64 {
+    let (mut x, mut acc) = if (a * 2.0).round() as i64 % 2 == 0 {
+        (1.0, 0.0)
+    } else {
+        (0.5, 0.5 * std::f64::consts::PI.ln())
+    };
+    while x < a - 1e-9 {
+        acc += x.ln();
+        x += 1.0;
+    }
+    acc
+}
+
+/// Regularized lower incomplete gamma `P(a, x)` by its power series
+/// (Abramowitz & Stegun 1964, 6.5.29):
+/// `P(a, x) = x^a e^-x / Gamma(a + 1) * sum_k x^k / ((a+1)..(a+k))`.
+pub fn gamma_p(a: f64, x: f64) -> f64 {
+    if x <= 0.0 {
+        return 0.0;
+    }
+    if x > 500.0 + 10.0 * a {
+        return 1.0; // far in the upper tail: the series would overflow
+    }
+    let mut term = 1.0;
+    let mut sum = 1.0;
+    let mut k = 0.0;
+    while term > 1e-17 * sum {
+        k += 1.0;
+        term *= x / (a + k);
+        sum += term;
+        assert!(k < 1e6);
+    }
+    (a * x.ln() - x - ln_gamma_half(a + 1.0)).exp() * sum
+}
+
+/// Upper tail `P(X >= x)` of a chi-square variable with `df` degrees of freedom.
+pub fn chi2_sf(x: f64, df: usize) -> f64 {
+    1.0 - gamma_p(df as f64 / 2.0, x / 2.0)
+}
+
+/// Pearson's chi-square statistic and its p-value for observed counts
+/// against expected probabilities (all expected counts here are >= 100).
+pub fn chi_square(counts: &[usize], probs: &[f64]) -> f64 {
+    let n: usize = counts.iter().sum();
+    let stat: f64 = counts
+        .iter()
+        .zip(probs)
+        .map(|(&c, &p)| {
+            let e = p * n as f64;
+            (c as f64 - e).powi(2) / e
+        })
+        .sum();
+    chi2_sf(stat, counts.len() - 1)
+}

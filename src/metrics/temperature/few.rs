@@ -220,12 +220,7 @@ pub(super) fn pack_few(
     table: &UnexpectednessTable,
     mut best: Candidate,
 ) -> Candidate {
-    let delta: Vec<f64> = table
-        .present
-        .iter()
-        .zip(&table.absent)
-        .map(|(p, a)| p - a)
-        .collect();
+    let delta = table.deltas();
     let (m, n) = (b.nrows(), b.ncols());
     let small_rows = m <= n;
     let (k, big) = if small_rows { (m, n) } else { (n, m) };
